@@ -1,0 +1,1 @@
+"""glowtemp: temperature of incandescent glow from a photo, with an honest band."""

@@ -1,0 +1,1 @@
+"""The glowtemp web app (Flask)."""
