@@ -1,0 +1,130 @@
+"""What limits a reading, as stable short codes with plain words and a fix.
+
+Codes are part of the JSON output and the firing log: keep them stable; reword freely.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+CLIPPED_SHARE_WARN = 0.02  # warn when more than 2 % of the region is blown out
+FEW_PIXELS = 200  # fewer usable pixels than this is a thin sample
+BACKGROUND_LEVEL_WARN = 0.15  # surroundings brighter than 15 % of the glow's red
+BELOW_GLOW_C = 500.0  # visible glow starts near 500 °C (Draper point ~525 °C, handbook value)
+
+
+@dataclass(frozen=True)
+class Advice:
+    code: str
+    message: str
+    fix: str
+
+    def to_dict(self) -> dict:
+        return {"code": self.code, "message": self.message, "fix": self.fix}
+
+
+def clipped_pixels(share: float) -> Advice:
+    return Advice(
+        "clipped-pixels",
+        f"{share:.0%} of the region is blown out (a colour channel at full scale); those pixels "
+        "were left out, and the rest may still read hot.",
+        "Lower the exposure (drag the camera's brightness down, or set -1 to -2 EV) until the "
+        "glow shows colour rather than white.",
+    )
+
+
+def auto_white_balance() -> Advice:
+    return Advice(
+        "auto-white-balance",
+        "The camera set its white balance automatically, which pulls glow towards white and "
+        "makes it read hotter than it is.",
+        "Lock the white balance to a daylight preset (about 5500 K) before taking the photo.",
+    )
+
+
+def few_pixels(count: int) -> Advice:
+    return Advice(
+        "few-pixels",
+        f"Only {count} pixels carry usable colour, so the estimate rests on a thin sample.",
+        "Move closer, zoom in, or make the region cover more of the glowing surface.",
+    )
+
+
+def no_usable_pixels() -> Advice:
+    return Advice(
+        "no-usable-pixels",
+        "No pixel in the region carries usable colour: they are all blown out or too dark.",
+        "Retake the photo with the exposure set so the glow is clearly coloured, then choose "
+        "the glowing area as the region.",
+    )
+
+
+def too_dark() -> Advice:
+    return Advice(
+        "too-dark",
+        "Most of the region is too dim to carry colour.",
+        "Raise the exposure until the glow is clearly coloured but not blown out, or move the "
+        "region onto the glowing surface.",
+    )
+
+
+def not_glow_colour() -> Advice:
+    return Advice(
+        "not-glow-colour",
+        "This colour is far from the glow of any hot body: a flame, an LED or lamp, or mixed or "
+        "reflected light.",
+        "Aim at the glowing surface itself, keep flames out of the region, and turn off nearby "
+        "lights.",
+    )
+
+
+def ambiguous() -> Advice:
+    return Advice(
+        "ambiguous-colour",
+        "The colour fits two separate temperatures equally well, so no single estimate is given.",
+        "Retake the photo with a daylight white balance and the glow filling more of the region.",
+    )
+
+
+def ambient_light() -> Advice:
+    return Advice(
+        "ambient-light",
+        "The surroundings are brightly lit. Light reflected off the work adds green and blue and "
+        "makes it read hot.",
+        "Shade the work or dim the lights, or photograph through the spy hole.",
+    )
+
+
+def colour_floor(space_name: str, ceiling_c: float) -> Advice:
+    return Advice(
+        "below-colour-range",
+        f"At this heat glow is redder than {space_name} can record, so the photo's colour only "
+        f"shows that the glow is below about {ceiling_c:.0f} °C.",
+        "Save photos in Display P3 (a wide-colour setting on many phones) or raw, or compare "
+        "with a thermocouple or witness cones.",
+    )
+
+
+def below_glow() -> Advice:
+    return Advice(
+        "below-visible-glow",
+        f"The estimate is below about {BELOW_GLOW_C:.0f} °C, where hot bodies hardly glow; what "
+        "the camera sees may be reflected light.",
+        "Check the reading with a thermocouple; do not trust glow colour at this heat.",
+    )
+
+
+def above_range(top_c: float) -> Advice:
+    return Advice(
+        "above-range",
+        f"The colour is at or beyond the hottest glow glowtemp models (about {top_c:.0f} °C).",
+        "Lower the exposure and check that the region holds glow and not a lamp or flame.",
+    )
+
+
+def colour_profile_problem(problem: str) -> Advice:
+    return Advice(
+        "colour-profile-unread",
+        f"The photo's colour profile could not be read ({problem}); sRGB was assumed.",
+        "Export the photo as an ordinary sRGB or Display P3 JPEG.",
+    )

@@ -1,0 +1,169 @@
+"""One reading: photo -> region -> pixel statistics -> estimate -> what the user is shown.
+
+This is the single entry point that the command line, the web app and the firing log call;
+none of them computes physics of its own.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from . import advice
+from .colourspaces import SRGB, srgb_encode
+from .estimate import UNCALIBRATED, CameraTerm, TemperatureEstimate, estimate_temperature
+from .locus import TABLE_MAX_K, blackbody_swatch_hex
+from .region import find_glow
+from .sampling import RegionStatistics, region_statistics
+from .scales import (
+    celsius_to_fahrenheit,
+    heat_colour_name,
+    kelvin_to_celsius,
+    round_to,
+    rounding_step,
+)
+
+INSTRUMENT_NOTICE = (
+    "An estimate from colour, not a calibrated instrument: check it against a thermocouple or "
+    "witness cones before relying on it."
+)
+
+
+@dataclass(frozen=True)
+class Reading:
+    """Everything one measurement found, in kelvin internally and °C / °F for people."""
+
+    photo_name: str
+    region: object
+    region_found: bool
+    statistics: RegionStatistics
+    estimate: TemperatureEstimate
+    warnings: tuple
+    colour_space: str
+    space_source: str
+    metadata: dict
+    profile: str | None = None
+    region_colour_hex: str | None = None
+    extra: dict = field(default_factory=dict)
+
+    def _celsius(self):
+        """Central value and intervals in °C, rounded to a step the 68 % band supports."""
+        e = self.estimate
+        if e.status == "upper-bound":
+            ceiling = kelvin_to_celsius(e.interval_95_k[1])
+            return None, None, None, round_to(ceiling, 10), 10
+        if not e.usable:
+            return None, None, None, None, None
+        low68, high68 = (kelvin_to_celsius(t) for t in e.interval_68_k)
+        step = rounding_step((high68 - low68) / 2)
+        down = lambda t: int(np.floor(kelvin_to_celsius(t) / step) * step)  # noqa: E731
+        up = lambda t: int(np.ceil(kelvin_to_celsius(t) / step) * step)  # noqa: E731
+        central = round_to(kelvin_to_celsius(e.temperature_k), step)
+        return (
+            central,
+            [down(e.interval_68_k[0]), up(e.interval_68_k[1])],
+            [down(e.interval_95_k[0]), up(e.interval_95_k[1])],
+            None,
+            step,
+        )
+
+    def to_dict(self) -> dict:
+        """The JSON form shared by ``glowtemp measure --json``, the web API and the firing log."""
+        central, band68, band95, ceiling, step = self._celsius()
+        to_f = lambda t: None if t is None else round_to(celsius_to_fahrenheit(t), 1)  # noqa: E731
+        shown = central if central is not None else ceiling
+        return {
+            "photo": self.photo_name,
+            "status": self.estimate.status,
+            "temperature_c": central,
+            "interval_68_c": band68,
+            "interval_95_c": band95,
+            "upper_bound_c": ceiling,
+            "resolution_c": step,
+            "temperature_f": to_f(central),
+            "interval_68_f": None if band68 is None else [to_f(t) for t in band68],
+            "interval_95_f": None if band95 is None else [to_f(t) for t in band95],
+            "upper_bound_f": to_f(ceiling),
+            "temperature_k": None if central is None else round_to(central + 273.15, step),
+            "glow_name": None if shown is None else heat_colour_name(shown),
+            "estimate_colour_hex": None
+            if self.estimate.temperature_k is None
+            else blackbody_swatch_hex(self.estimate.temperature_k),
+            "region_colour_hex": self.region_colour_hex,
+            "warnings": [w.to_dict() for w in self.warnings],
+            "pixels_used": self.statistics.pixels_used,
+            "pixels_clipped": self.statistics.pixels_clipped,
+            "pixels_dark": self.statistics.pixels_dark,
+            "pixels_outlier": self.statistics.pixels_outlier,
+            "pixels_total": self.statistics.pixels_total,
+            "region": {**self.region.to_dict(), "text": self.region.to_text(), "found": self.region_found},
+            "colour_space": self.colour_space,
+            "colour_space_source": self.space_source,
+            "camera": self.metadata,
+            "profile": self.profile,
+            "notice": INSTRUMENT_NOTICE,
+            **self.extra,
+        }
+
+
+def region_colour_hex(mean_linear, space) -> str | None:
+    """The region's mean colour as an sRGB display swatch (IEC 61966-2-1), brightest channel full."""
+    if not np.all(np.isfinite(mean_linear)):
+        return None
+    rgb = np.clip(SRGB.xyz_to_rgb @ (space.rgb_to_xyz @ np.asarray(mean_linear)), 0.0, None)
+    if rgb.max() <= 0:
+        return None
+    rgb = srgb_encode(rgb / rgb.max())
+    return "#" + "".join(f"{round(float(v) * 255):02x}" for v in rgb)
+
+
+def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -> list:
+    found = []
+    if photo.profile_problem:
+        found.append(advice.colour_profile_problem(photo.profile_problem))
+    if photo.metadata.white_balance == "auto":
+        found.append(advice.auto_white_balance())
+    if stats.pixels_total and stats.pixels_clipped / stats.pixels_total > advice.CLIPPED_SHARE_WARN:
+        found.append(advice.clipped_pixels(stats.pixels_clipped / stats.pixels_total))
+    if stats.pixels_used == 0:
+        found.append(advice.no_usable_pixels())
+        return found
+    if stats.pixels_dark > stats.pixels_total / 2:
+        found.append(advice.too_dark())
+    if stats.pixels_used < advice.FEW_PIXELS:
+        found.append(advice.few_pixels(stats.pixels_used))
+    if stats.background_level > advice.BACKGROUND_LEVEL_WARN:
+        found.append(advice.ambient_light())
+    if estimate.status == "not-glow" or estimate.scale_factor > 1.0:
+        found.append(advice.not_glow_colour())
+    if estimate.status == "ambiguous":
+        found.append(advice.ambiguous())
+    if estimate.status == "upper-bound":
+        found.append(advice.colour_floor(photo.space.name, kelvin_to_celsius(estimate.interval_95_k[1])))
+    elif estimate.usable and kelvin_to_celsius(estimate.temperature_k) < advice.BELOW_GLOW_C:
+        found.append(advice.below_glow())
+    if estimate.at_table_top:
+        found.append(advice.above_range(kelvin_to_celsius(TABLE_MAX_K)))
+    return found
+
+
+def measure(photo, region=None, camera: CameraTerm = UNCALIBRATED, photo_name: str = "photo") -> Reading:
+    """Measure one decoded photo (:class:`glowtemp.photo.Photo`) in ``region`` (found when None)."""
+    region_found = region is None
+    if region_found:
+        region = find_glow(photo.codes[:, :, 0])
+    stats = region_statistics(photo, region)
+    estimate = estimate_temperature(stats.mean_linear, stats.standard_error, photo.space, camera)
+    return Reading(
+        photo_name=photo_name,
+        region=region,
+        region_found=region_found,
+        statistics=stats,
+        estimate=estimate,
+        warnings=tuple(_advice_for(photo, stats, estimate)),
+        colour_space=photo.space.name,
+        space_source=photo.space_source,
+        metadata=photo.metadata.to_dict(),
+        region_colour_hex=region_colour_hex(stats.mean_linear, photo.space),
+    )

@@ -1,0 +1,136 @@
+"""Which pixels of a region carry the glow's colour, and their channel statistics.
+
+A pixel is left out when it is *clipped* (any channel at or near the file's largest code: its
+true value is unknown and its colour ratios are wrong), too *dark* to carry colour, or an
+*outlier* whose green/red ratio lies far from the region's median (a reflection or a speck).
+Outliers are judged robustly by the median absolute deviation (Hampel's identifier).
+
+The standard error of each channel mean allows for two things besides pixel scatter:
+neighbouring pixels of a demosaiced, chroma-subsampled JPEG are not independent, and a mean of
+coarsely quantised values is only as fine as one code step unless noise dithers it.
+
+References
+----------
+- F. R. Hampel, "The influence curve and its role in robust estimation", J. Am. Stat. Assoc.
+  69 (1974) 383-393 (median absolute deviation with the 1.4826 consistency factor).
+- B. Widrow and I. Kollar, Quantization Noise, Cambridge University Press (2008), ch. 4-5
+  (uniform quantisation noise of variance step^2 / 12; dither by noise larger than a step).
+- ITU-T T.81 / ISO 10918-1 (JPEG) and JFIF 1.02: 4:2:0 chroma subsampling shares one chroma
+  sample among 2 x 2 pixels; 8 x 8 DCT blocks.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .region import region_window
+
+CLIP_FRACTION = 250 / 255  # a channel at or above this share of the largest code is clipped
+DARK_FLOOR_LINEAR = 0.01  # red below this linear level is too dark to carry colour
+DARK_RELATIVE = 0.15  # ... or below this share of the region's bright (99th percentile) red
+OUTLIER_MADS = 6.0  # Hampel identifier cut, in robust standard deviations
+PIXELS_PER_INDEPENDENT_SAMPLE = 16  # correlation area of demosaicing + 4:2:0 chroma + DCT (hedge)
+DITHER_CODES = 0.5  # pixel scatter (in code steps) above which quantisation averages out
+BACKGROUND_STEP_PX = 256  # the background is judged on a copy reduced to about this long side
+
+
+@dataclass(frozen=True)
+class RegionStatistics:
+    """Linear channel statistics of a region's usable pixels (all arrays are R, G, B)."""
+
+    mean_linear: np.ndarray
+    standard_error: np.ndarray
+    spread_linear: np.ndarray
+    mean_codes: np.ndarray
+    pixels_total: int
+    pixels_used: int
+    pixels_clipped: int
+    pixels_dark: int
+    pixels_outlier: int
+    background_level: float  # median brightness outside the region / region mean red
+
+    def to_dict(self) -> dict:
+        return {
+            "mean_linear": [float(v) for v in self.mean_linear],
+            "standard_error": [float(v) for v in self.standard_error],
+            "pixels_total": self.pixels_total,
+            "pixels_used": self.pixels_used,
+            "pixels_clipped": self.pixels_clipped,
+            "pixels_dark": self.pixels_dark,
+            "pixels_outlier": self.pixels_outlier,
+            "background_level": float(self.background_level),
+        }
+
+
+def _robust_keep(values: np.ndarray, floor: float) -> np.ndarray:
+    median = np.median(values)
+    sigma = max(1.4826 * float(np.median(np.abs(values - median))), floor)
+    return np.abs(values - median) <= OUTLIER_MADS * sigma
+
+
+def _background_level(photo, region, region_red: float) -> float:
+    step = max(1, int(np.ceil(max(photo.width, photo.height) / BACKGROUND_STEP_PX)))
+    codes = photo.codes[::step, ::step]
+    ys, xs = np.mgrid[0 : photo.height : step, 0 : photo.width : step]
+    x0, y0, x1, y1 = region.bounds()
+    outside = (xs < x0) | (xs >= x1) | (ys < y0) | (ys >= y1)
+    if not outside.any() or region_red <= 0:
+        return 0.0
+    linear = photo.linear(codes[outside])
+    return float(np.median(linear.max(axis=1))) / region_red
+
+
+def region_statistics(photo, region) -> RegionStatistics:
+    """Mask a region of ``photo`` (a :class:`glowtemp.photo.Photo`) and summarise its usable pixels."""
+    rows, cols, inside = region_window(region, photo.width, photo.height)
+    codes = photo.codes[rows, cols][inside]
+    total = len(codes)
+    clipped = (codes >= CLIP_FRACTION * photo.max_code).any(axis=1)
+    codes = codes[~clipped]
+    linear = photo.linear(codes)
+    red = linear[:, 0]
+    bright_red = float(np.percentile(red, 99)) if len(red) else 0.0
+    lit = red >= max(DARK_FLOOR_LINEAR, DARK_RELATIVE * bright_red)
+    codes, linear = codes[lit], linear[lit]
+    keep = np.ones(len(linear), dtype=bool)
+    if len(linear) >= 8:
+        step = 1.0 / photo.max_code
+        keep = _robust_keep(linear[:, 1] / linear[:, 0], step) & _robust_keep(
+            linear[:, 2] / linear[:, 0], step
+        )
+    codes, linear = codes[keep], linear[keep]
+    used = len(linear)
+    if used:
+        mean = linear.mean(axis=0, dtype=np.float64)
+        spread = linear.std(axis=0, dtype=np.float64)
+        mean_codes = codes.mean(axis=0, dtype=np.float64)
+        standard_error = _standard_error(photo, mean_codes, codes, spread, used)
+    else:
+        mean = spread = mean_codes = standard_error = np.full(3, np.nan)
+    return RegionStatistics(
+        mean_linear=mean,
+        standard_error=standard_error,
+        spread_linear=spread,
+        mean_codes=mean_codes,
+        pixels_total=total,
+        pixels_used=used,
+        pixels_clipped=int(clipped.sum()),
+        pixels_dark=int((~lit).sum()),
+        pixels_outlier=int((~keep).sum()),
+        background_level=_background_level(photo, region, float(mean[0]) if used else 0.0),
+    )
+
+
+def _standard_error(photo, mean_codes, codes, spread, used) -> np.ndarray:
+    """Standard error of each channel mean: pixel scatter over independent samples plus quantisation."""
+    independent = max(1.0, used / PIXELS_PER_INDEPENDENT_SAMPLE)
+    table = photo.decode_table
+    at = np.clip(np.round(mean_codes).astype(int), 0, photo.max_code - 1)
+    code_step = table[np.arange(3), at + 1] - table[np.arange(3), at]
+    code_scatter = codes.std(axis=0, dtype=np.float64)
+    quantisation_var = code_step**2 / 12.0
+    dithered = code_scatter >= DITHER_CODES
+    quantisation_var = np.where(dithered, quantisation_var / independent, quantisation_var)
+    return np.sqrt(spread**2 / independent + quantisation_var)
