@@ -1,0 +1,83 @@
+"""The estimator on colours computed independently with colour-science."""
+
+import colour
+import numpy as np
+import pytest
+
+from glowtemp import colourspaces
+from glowtemp.estimate import CameraTerm, estimate_temperature
+
+CMFS = colour.MSDS_CMFS["CIE 1931 2 Degree Standard Observer"]
+
+
+def reference_linear_rgb(temperature_k, space_name="sRGB"):
+    """Blackbody linear RGB by colour-science (sd_blackbody, sd_to_XYZ, XYZ_to_RGB), clipped at 0
+    as a camera clips out-of-gamut components."""
+    xyz = colour.sd_to_XYZ(colour.sd_blackbody(temperature_k, CMFS.shape), CMFS, method="Integration")
+    rgb = colour.XYZ_to_RGB(xyz / xyz[1], space_name, apply_cctf_encoding=False)
+    return np.clip(rgb, 0.0, None)
+
+
+@pytest.mark.parametrize("temperature_k", [1050.0, 1200.0, 1400.0, 1600.0, 2000.0, 2800.0])
+def test_recovers_reference_blackbody_colour(temperature_k):
+    # Reference library: colour-science renders the blackbody; the band must hold the truth and
+    # the centre lie close to it for an ideal colorimetric camera.
+    rgb = reference_linear_rgb(temperature_k)
+    result = estimate_temperature(rgb / rgb[0] * 0.5, [0.001] * 3)
+    assert result.status == "ok"
+    low, high = result.interval_95_k
+    assert low < temperature_k < high
+    assert result.temperature_k == pytest.approx(temperature_k, rel=0.01)
+    assert result.interval_68_k[0] > low and result.interval_68_k[1] < high
+
+
+def test_emissivity_and_exposure_cancel_in_the_ratio():
+    # Greybody emission: a constant emissivity scales all channels alike (DESIGN.md, physics).
+    rgb = reference_linear_rgb(1300.0)
+    bright = estimate_temperature(rgb / rgb[0] * 0.8, [0.001] * 3)
+    dim = estimate_temperature(rgb / rgb[0] * 0.8 * 0.35, [0.001 * 0.35] * 3)
+    assert bright.temperature_k == pytest.approx(dim.temperature_k, abs=1.0)
+
+
+def test_srgb_below_its_green_floor_gives_only_a_ceiling():
+    # In linear sRGB a blackbody's green is negative below about 960 K (IEC 61966-2-1 matrix
+    # applied to CIE 1931 XYZ), so an sRGB photo can only bound the temperature from above.
+    rgb = reference_linear_rgb(900.0)
+    result = estimate_temperature(rgb / rgb[0] * 0.5, [0.001] * 3)
+    assert result.status == "upper-bound"
+    assert 900.0 < result.interval_95_k[1] < 1050.0
+
+
+def test_display_p3_still_resolves_900_kelvin():
+    # Display P3 (SMPTE EG 432-1 primaries) records green of a blackbody down to about 815 K.
+    rgb = reference_linear_rgb(900.0, "Display P3")
+    result = estimate_temperature(rgb / rgb[0] * 0.5, [0.0005] * 3, space=colourspaces.DISPLAY_P3)
+    assert result.status == "ok"
+    assert result.interval_95_k[0] < 900.0 < result.interval_95_k[1]
+
+
+def test_led_green_is_refused_as_not_glow():
+    # A colour no hot body makes: green stronger than red (every blackbody below ~6000 K is red-heavy).
+    result = estimate_temperature([0.3, 0.8, 0.2], [0.001] * 3)
+    assert result.status == "not-glow" and result.temperature_k is None
+
+
+def test_noisier_data_give_a_wider_band_never_a_narrower_one():
+    rgb = reference_linear_rgb(1250.0)
+    widths = []
+    for error in (0.0005, 0.005, 0.02):
+        result = estimate_temperature(rgb / rgb[0] * 0.5, [error] * 3)
+        widths.append(result.interval_95_k[1] - result.interval_95_k[0])
+    assert widths[0] < widths[1] < widths[2]
+
+
+def test_calibrated_camera_term_narrows_the_band():
+    rgb = reference_linear_rgb(1250.0)
+    loose = estimate_temperature(rgb / rgb[0] * 0.5, [0.0005] * 3)
+    tight = estimate_temperature(rgb / rgb[0] * 0.5, [0.0005] * 3, camera=CameraTerm(0.01, 0.001))
+    assert np.diff(tight.interval_95_k)[0] < 0.5 * np.diff(loose.interval_95_k)[0]
+
+
+def test_no_red_means_no_estimate():
+    assert estimate_temperature([0.0, 0.0, 0.0], [0.01] * 3).status == "no-data"
+    assert estimate_temperature([np.nan, 0.1, 0.1], [0.01] * 3).status == "no-data"
