@@ -1,0 +1,100 @@
+"""What a firing and a reading may hold: the allowed values, checked with plain-word errors.
+
+Cone numbers follow the usual pyrometric cone series, 022 (coolest) to 01, then 1 to 42
+(common practice). Times are kept as ISO 8601 text in UTC (``2024-03-01T18:30:00+00:00``),
+so they sort as text and carry their offset; a time without an offset is read as the
+machine's local time.
+"""
+
+from __future__ import annotations
+
+import math
+from datetime import datetime, timezone
+
+FIRING_KINDS = ("bisque", "glaze", "glass", "forging", "heat treatment", "other")
+FIRING_STATUSES = ("open", "closed")
+CONE_STATES = ("standing", "bent")
+LOWEST_C = -273.15
+HIGHEST_C = 3000.0  # far above any kiln or forge; guards against typing mistakes
+LONGEST_NAME = 200
+LONGEST_NOTE = 5000
+
+
+class LogbookError(ValueError):
+    """A request the firing log cannot carry out, with the reason in plain words."""
+
+
+def utc_now() -> str:
+    return datetime.now(timezone.utc).isoformat(timespec="seconds")
+
+
+def time_text(value, what: str = "time") -> str:
+    """A datetime or ISO 8601 text as UTC ISO 8601 text to the second.
+
+    >>> time_text("2024-03-01T20:30:00+02:00")
+    '2024-03-01T18:30:00+00:00'
+    """
+    if isinstance(value, str):
+        try:
+            value = datetime.fromisoformat(value.strip())
+        except ValueError:
+            raise LogbookError(
+                f"The {what} must be a date and time like 2024-03-01T18:30 or "
+                f"2024-03-01T18:30:00+01:00; got {value!r}."
+            ) from None
+    if not isinstance(value, datetime):
+        raise LogbookError(f"The {what} must be a date and time; got {value!r}.")
+    return value.astimezone(timezone.utc).isoformat(timespec="seconds")
+
+
+def text(value, what: str, longest: int = LONGEST_NAME, required: bool = False) -> str | None:
+    """Stripped text, or None when empty and not required."""
+    if value is None or (isinstance(value, str) and not value.strip()):
+        if required:
+            raise LogbookError(f"A {what} is needed.")
+        return None
+    if not isinstance(value, str):
+        raise LogbookError(f"The {what} must be text; got {value!r}.")
+    value = value.strip()
+    if len(value) > longest:
+        raise LogbookError(f"The {what} is {len(value)} characters long; at most {longest} fit.")
+    return value
+
+
+def temperature_c(value, what: str) -> float | None:
+    """A temperature in °C as a float, or None."""
+    if value is None or (isinstance(value, str) and not value.strip()):
+        return None
+    if isinstance(value, bool):
+        raise LogbookError(f"The {what} must be a number of °C; got {value!r}.")
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        raise LogbookError(f"The {what} must be a number of °C; got {value!r}.") from None
+    if not math.isfinite(number) or not LOWEST_C <= number <= HIGHEST_C:
+        raise LogbookError(f"The {what} must lie between {LOWEST_C} and {HIGHEST_C:g} °C; got {value!r}.")
+    return number
+
+
+def cone(value, what: str = "cone") -> str | None:
+    """A cone number in its usual written form ('06', '010', '6', '10'), or None.
+
+    >>> cone(" 06 "), cone("10")
+    ('06', '10')
+    """
+    value = text(value, what, longest=8)
+    if value is None:
+        return None
+    if value.isdigit():
+        number = int(value)
+        written = "0" + str(number) if value.startswith("0") else str(number)
+        in_series = 1 <= number <= (22 if value.startswith("0") else 42)
+        if in_series and written == value:
+            return value
+    raise LogbookError(f"A {what} is a cone number from 022 to 01 or 1 to 42, like 06 or 6; got {value!r}.")
+
+
+def choice(value, allowed: tuple, what: str) -> str:
+    if value not in allowed:
+        raise LogbookError(f"The {what} must be one of {', '.join(allowed)}; got {value!r}.")
+    return value

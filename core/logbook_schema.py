@@ -1,0 +1,167 @@
+"""The firing log's SQLite schema and its forward migrations.
+
+Each migration moves the database from version ``n - 1`` to ``n`` inside one transaction,
+together with the row that records version ``n`` in ``schema_version``. A database made by a
+newer glowtemp (a version this code does not know) is refused rather than guessed at.
+
+Version 1 kept each reading's result as JSON only. Version 2 adds columns for the estimate
+and its bands (what the firing curve and queries read), filled in from the stored JSON, and
+indexes for a firing's readings and for photo references.
+"""
+
+from __future__ import annotations
+
+import json
+import sqlite3
+from datetime import datetime, timezone
+
+VERSION_TABLE = """
+CREATE TABLE IF NOT EXISTS schema_version (
+    version INTEGER PRIMARY KEY,
+    applied_at TEXT NOT NULL
+)
+"""
+
+VERSION_1 = """
+CREATE TABLE firings (
+    id INTEGER PRIMARY KEY,
+    name TEXT NOT NULL,
+    kiln TEXT,
+    kind TEXT NOT NULL,
+    target_c REAL,
+    target_cone TEXT,
+    started_at TEXT NOT NULL,
+    notes TEXT,
+    status TEXT NOT NULL DEFAULT 'open',
+    closed_at TEXT,
+    created_at TEXT NOT NULL
+);
+CREATE TABLE readings (
+    id INTEGER PRIMARY KEY,
+    firing_id INTEGER REFERENCES firings(id),
+    photo_key TEXT NOT NULL,
+    photo_name TEXT NOT NULL,
+    taken_at TEXT NOT NULL,
+    result_json TEXT NOT NULL,
+    reference_c REAL,
+    cone TEXT,
+    cone_state TEXT,
+    note TEXT,
+    created_at TEXT NOT NULL
+);
+"""
+
+VERSION_2 = """
+ALTER TABLE readings ADD COLUMN status TEXT;
+ALTER TABLE readings ADD COLUMN temperature_c REAL;
+ALTER TABLE readings ADD COLUMN band68_low_c REAL;
+ALTER TABLE readings ADD COLUMN band68_high_c REAL;
+ALTER TABLE readings ADD COLUMN band95_low_c REAL;
+ALTER TABLE readings ADD COLUMN band95_high_c REAL;
+ALTER TABLE readings ADD COLUMN upper_bound_c REAL;
+ALTER TABLE readings ADD COLUMN region_text TEXT;
+ALTER TABLE readings ADD COLUMN profile TEXT;
+CREATE INDEX readings_by_firing ON readings (firing_id, taken_at);
+CREATE INDEX readings_by_photo ON readings (photo_key);
+"""
+
+RESULT_COLUMNS = (
+    "status",
+    "temperature_c",
+    "band68_low_c",
+    "band68_high_c",
+    "band95_low_c",
+    "band95_high_c",
+    "upper_bound_c",
+    "region_text",
+    "profile",
+)
+
+
+def result_columns(result: dict) -> dict:
+    """The queryable columns of a reading's result (the JSON of ``Reading.to_dict()``)."""
+    band68 = result.get("interval_68_c") or (None, None)
+    band95 = result.get("interval_95_c") or (None, None)
+    region = result.get("region") or {}
+    return {
+        "status": result.get("status"),
+        "temperature_c": result.get("temperature_c"),
+        "band68_low_c": band68[0],
+        "band68_high_c": band68[1],
+        "band95_low_c": band95[0],
+        "band95_high_c": band95[1],
+        "upper_bound_c": result.get("upper_bound_c"),
+        "region_text": region.get("text") if isinstance(region, dict) else None,
+        "profile": result.get("profile"),
+    }
+
+
+def _fill_result_columns(connection: sqlite3.Connection) -> None:
+    rows = connection.execute("SELECT id, result_json FROM readings").fetchall()
+    assignments = ", ".join(f"{name} = ?" for name in RESULT_COLUMNS)
+    for reading_id, text in rows:
+        columns = result_columns(json.loads(text))
+        connection.execute(
+            f"UPDATE readings SET {assignments} WHERE id = ?",
+            [columns[name] for name in RESULT_COLUMNS] + [reading_id],
+        )
+
+
+def _run_script(sql: str):
+    def migrate(connection: sqlite3.Connection) -> None:
+        for statement in sql.split(";"):
+            if statement.strip():
+                connection.execute(statement)
+
+    return migrate
+
+
+def _version_2(connection: sqlite3.Connection) -> None:
+    _run_script(VERSION_2)(connection)
+    _fill_result_columns(connection)
+
+
+MIGRATIONS = {1: _run_script(VERSION_1), 2: _version_2}
+CURRENT_VERSION = max(MIGRATIONS)
+
+
+class SchemaError(ValueError):
+    """A database this version of glowtemp cannot open, in plain words."""
+
+
+def schema_version(connection: sqlite3.Connection) -> int:
+    """The version recorded in the database; 0 for a new, empty one."""
+    connection.execute(VERSION_TABLE)
+    (version,) = connection.execute("SELECT COALESCE(MAX(version), 0) FROM schema_version").fetchone()
+    return version
+
+
+def migrate(connection: sqlite3.Connection) -> int:
+    """Bring the database up to :data:`CURRENT_VERSION`; returns the version it was at.
+
+    ``connection`` must be in autocommit mode (``isolation_level=None``): each step runs in
+    its own ``BEGIN IMMEDIATE`` transaction, so a killed process leaves a whole version.
+    """
+    first = None
+    while True:
+        connection.execute("BEGIN IMMEDIATE")
+        try:
+            found = schema_version(connection)
+            first = found if first is None else first
+            if found > CURRENT_VERSION:
+                raise SchemaError(
+                    f"This firing log was written by a newer glowtemp (schema version {found}; "
+                    f"this program knows up to {CURRENT_VERSION}). Update glowtemp to open it."
+                )
+            if found == CURRENT_VERSION:
+                connection.execute("COMMIT")
+                return first
+            MIGRATIONS[found + 1](connection)
+            connection.execute(
+                "INSERT INTO schema_version (version, applied_at) VALUES (?, ?)",
+                (found + 1, datetime.now(timezone.utc).isoformat(timespec="seconds")),
+            )
+        except BaseException:
+            connection.execute("ROLLBACK")
+            raise
+        connection.execute("COMMIT")
