@@ -128,3 +128,30 @@ def colour_profile_problem(problem: str) -> Advice:
         f"The photo's colour profile could not be read ({problem}); sRGB was assumed.",
         "Export the photo as an ordinary sRGB or Display P3 JPEG.",
     )
+
+
+def outside_profile_span(span_c) -> Advice:
+    return Advice(
+        "outside-profile-span",
+        f"This reading lies outside the {span_c[0]:.0f}-{span_c[1]:.0f} °C span of the profile's "
+        "trusted readings, so its band has been widened.",
+        "Add a photo with a trusted reading near this heat to the profile.",
+    )
+
+
+def profile_camera_mismatch(profile_model, photo_model) -> Advice:
+    return Advice(
+        "profile-camera-mismatch",
+        f"The profile was made with {profile_model or 'an unnamed camera'}, but this photo comes "
+        f"from {photo_model or 'an unnamed camera'}; the correction may not fit.",
+        "Choose the profile made with this camera, or make one for it.",
+    )
+
+
+def profile_space_mismatch(profile_space, photo_space) -> Advice:
+    return Advice(
+        "profile-not-applied",
+        f"The profile was made from {profile_space} photos and this photo is {photo_space}, so the "
+        "profile was not applied and the uncalibrated band is shown.",
+        "Use the same colour setting as the profile's photos, or make a profile for this one.",
+    )

@@ -22,14 +22,15 @@ def _measure(args) -> int:
             region = parse_rectangle(args.region)
         elif args.circle:
             region = parse_circle(args.circle)
-    except RegionError as error:
+        profile = _load_named_profile(args)
+    except ValueError as error:  # RegionError, ProfileError
         print(f"glowtemp: {error}", file=sys.stderr)
         return 2
     failures = 0
     for path in args.photos:
         try:
             photo = load_photo(path)
-            reading = measure(photo, region, photo_name=path)
+            reading = measure(photo, region, photo_name=path, profile=profile)
         except (PhotoError, RegionError, OSError) as error:
             failures += 1
             message = getattr(error, "strerror", None) or str(error)
@@ -42,6 +43,61 @@ def _measure(args) -> int:
     if not args.json:
         print(INSTRUMENT_NOTICE, file=sys.stderr)
     return 1 if failures else 0
+
+
+def _load_named_profile(args):
+    if not args.profile:
+        return None
+    from .datadir import data_dir
+    from .profile_store import load_profile
+
+    return load_profile(data_dir(args.data), args.profile)
+
+
+def _profile_command(args) -> int:
+    from .datadir import data_dir
+    from .profile import ProfileError
+    from . import profile_store
+
+    folder = data_dir(args.data)
+    try:
+        if args.action == "fit":
+            profile = profile_store.fit_from_csv(args.name, args.pairs, folder)
+            print(describe_profile(profile.to_dict()))
+        elif args.action == "list":
+            for summary in profile_store.list_profiles(folder):
+                low, high = summary["span_c"]
+                print(
+                    f"{summary['name']}: {summary['camera_model'] or 'unnamed camera'}, "
+                    f"{summary['colour_space']}, {summary['pairs']} pairs, {low:.0f}-{high:.0f} °C"
+                )
+        elif args.action == "show":
+            record = profile_store.load_profile(folder, args.name).to_dict()
+            print(json.dumps(record, indent=2, ensure_ascii=False) if args.json else describe_profile(record))
+        elif args.action == "delete":
+            profile_store.delete_profile(folder, args.name)
+            print(f"deleted profile {args.name}")
+    except ProfileError as error:
+        print(f"glowtemp: {error}", file=sys.stderr)
+        return 2
+    return 0
+
+
+def describe_profile(record: dict) -> str:
+    """A profile's fit, each pair's residual and the span, for people."""
+    low, high = record["span_c"]
+    camera = record["camera"].get("camera_model") or "unnamed camera"
+    scatter = "measured" if record["scatter_measured"] else "assumed (fewer than 3 pairs)"
+    lines = [
+        f"profile {record['name']}: {camera}, {record['colour_space']}, "
+        f"{len(record['pairs'])} pairs spanning {low:.0f}-{high:.0f} °C",
+        f"  law ln(G/R) = {record['parameters']['p']:.4f} + {record['parameters']['q_k']:.1f} K / T; "
+        f"scatter {record['scatter_ln_ratio']:.3f} in ln(G/R), {scatter}",
+    ]
+    for pair, residual in zip(record["pairs"], record["residuals_c"]):
+        source = f"cone {pair['cone']}" if pair["cone"] else "thermocouple"
+        lines.append(f"  {pair['photo']}: trusted {pair['reference_c']:.0f} °C ({source}), residual {residual:+.0f} °C")
+    return "\n".join(lines)
 
 
 def describe(result: dict) -> str:
@@ -79,6 +135,21 @@ def build_parser() -> argparse.ArgumentParser:
     measure.add_argument("--data", metavar="DIR", help="data folder (profiles, firing log)")
     measure.add_argument("--json", action="store_true", help="one JSON object per photo per line")
     measure.set_defaults(run=_measure)
+
+    profile = commands.add_parser("profile", help="camera profiles learnt from trusted readings")
+    actions = profile.add_subparsers(dest="action", required=True)
+    fit = actions.add_parser("fit", help="fit a profile from a CSV of photo,reference_c[,region] or photo,cone")
+    fit.add_argument("name")
+    fit.add_argument("pairs", metavar="PAIRS.csv")
+    actions.add_parser("list", help="list stored profiles")
+    show = actions.add_parser("show", help="show one profile")
+    show.add_argument("name")
+    show.add_argument("--json", action="store_true", help="the stored JSON record")
+    delete = actions.add_parser("delete", help="delete one profile")
+    delete.add_argument("name")
+    for sub in (fit, show, delete, actions.choices["list"]):
+        sub.add_argument("--data", metavar="DIR", help="data folder (profiles, firing log)")
+    profile.set_defaults(run=_profile_command)
     return parser
 
 

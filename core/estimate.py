@@ -13,9 +13,12 @@ components clipped to zero. Each ratio has a Gaussian likelihood whose variance 
 - the measurement variance of the observed ratio (delta method on the channel standard
   errors, which already include quantisation; see :mod:`glowtemp.sampling`), and
 - a *camera term*: a real camera's spectral sensitivities, colour matrix and processing differ
-  from the ideal one, which scales a ratio by a few per cent (``ratio_sigma``) and lets an
-  out-of-gamut channel that the ideal camera records as zero show a small value
-  (``floor_sigma``, in units of red).
+  from the ideal one. Rendered through measured and parametric cameras, glow's green/red came
+  out shifted by up to about +/-0.02 (in units of red) at every temperature, more an offset than
+  a scale, so the term has an additive part per channel (``green_floor``, ``blue_floor``) and a
+  small proportional part (``ratio_sigma``). Below about 1900 K an sRGB blackbody's blue is out
+  of gamut: what a camera records there is crosstalk, noise and JPEG chroma error, hence the
+  wider blue floor.
 
 The posterior on a 1 K grid (flat prior in T from 700 K to 4000 K) gives the median and equal-
 tailed 68 % and 95 % credible intervals. When the best fit is poor the variances are scaled by
@@ -52,8 +55,13 @@ class CameraTerm:
     cameras in colour-science and two parametric cameras (``bench/accuracy.py``).
     """
 
-    ratio_sigma: float = 0.08
-    floor_sigma: float = 0.004
+    ratio_sigma: float = 0.05
+    green_floor: float = 0.012
+    blue_floor: float = 0.03
+
+    @property
+    def floors(self) -> np.ndarray:
+        return np.array([self.green_floor, self.blue_floor])
 
 
 UNCALIBRATED = CameraTerm()
@@ -89,7 +97,7 @@ def log_likelihood(ratios, ratio_errors, space: RGBSpace = SRGB, camera: CameraT
     """Gaussian log-likelihood of the observed ratios on the blackbody table grid, and chi^2."""
     model = locus_ratios(space)
     variance = (
-        ratio_errors[None, :] ** 2 + (camera.ratio_sigma * model) ** 2 + camera.floor_sigma**2
+        ratio_errors[None, :] ** 2 + (camera.ratio_sigma * model) ** 2 + camera.floors[None, :] ** 2
     )
     chi2 = ((ratios[None, :] - model) ** 2 / variance).sum(axis=1)
     return -0.5 * (chi2 + np.log(variance).sum(axis=1)), chi2, variance

@@ -148,22 +148,54 @@ def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -
     return found
 
 
-def measure(photo, region=None, camera: CameraTerm = UNCALIBRATED, photo_name: str = "photo") -> Reading:
-    """Measure one decoded photo (:class:`glowtemp.photo.Photo`) in ``region`` (found when None)."""
+def _profiled_estimate(profile, photo, stats):
+    """Estimate through a camera profile, with the advice that applying it raises."""
+    from .profile import apply_profile
+
+    notes = []
+    if profile.colour_space != photo.space.name:
+        notes.append(advice.profile_space_mismatch(profile.colour_space, photo.space.name))
+        return None, notes
+    if profile.camera.get("camera_model") != photo.metadata.camera_model:
+        notes.append(advice.profile_camera_mismatch(profile.camera.get("camera_model"), photo.metadata.camera_model))
+    estimate, outside = apply_profile(profile, stats.mean_linear, stats.standard_error)
+    if outside:
+        notes.append(advice.outside_profile_span(profile.span_c))
+    return estimate, notes
+
+
+def measure(
+    photo,
+    region=None,
+    camera: CameraTerm = UNCALIBRATED,
+    photo_name: str = "photo",
+    profile=None,
+) -> Reading:
+    """Measure one decoded photo (:class:`glowtemp.photo.Photo`) in ``region`` (found when None).
+
+    With a :class:`glowtemp.profile.CameraProfile` the camera's own ratio law replaces the
+    uncalibrated camera term (unless the profile was made in another colour space).
+    """
     region_found = region is None
     if region_found:
         region = find_glow(photo.codes[:, :, 0])
     stats = region_statistics(photo, region)
-    estimate = estimate_temperature(stats.mean_linear, stats.standard_error, photo.space, camera)
+    estimate, profile_notes = (None, [])
+    if profile is not None:
+        estimate, profile_notes = _profiled_estimate(profile, photo, stats)
+    applied = estimate is not None
+    if estimate is None:
+        estimate = estimate_temperature(stats.mean_linear, stats.standard_error, photo.space, camera)
     return Reading(
         photo_name=photo_name,
         region=region,
         region_found=region_found,
         statistics=stats,
         estimate=estimate,
-        warnings=tuple(_advice_for(photo, stats, estimate)),
+        warnings=tuple(_advice_for(photo, stats, estimate) + profile_notes),
         colour_space=photo.space.name,
         space_source=photo.space_source,
         metadata=photo.metadata.to_dict(),
+        profile=profile.name if applied else None,
         region_colour_hex=region_colour_hex(stats.mean_linear, photo.space),
     )

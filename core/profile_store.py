@@ -1,0 +1,224 @@
+"""Camera profiles on disk, and fitting one from a CSV of photos paired with trusted readings.
+
+Profiles are human-readable JSON files in ``<data>/profiles/``, written to a temporary file,
+flushed and renamed into place, so a profile is either whole or absent. A pairs CSV has the
+columns ``photo`` and ``reference_c`` (a thermocouple or controller reading in °C) or ``cone``
+(a witness cone that bent), and optionally ``region`` (``X,Y,W,H`` or ``circle:CX,CY,R``);
+photo paths are relative to the CSV's folder.
+"""
+
+from __future__ import annotations
+
+import csv
+import hashlib
+import json
+import os
+import re
+import tempfile
+from datetime import datetime, timezone
+from pathlib import Path
+
+from .cones import CONE_SIGMA_C, ConeError, cone_temperature_c
+from .profile import (
+    CameraProfile,
+    Pair,
+    ProfileError,
+    fit_profile,
+    fit_ratio_law,
+    pair_log_ratio,
+    predict,
+    thermocouple_sigma_c,
+)
+
+PLAUSIBLE_REFERENCE_C = (400.0, 1800.0)
+WILD_RESIDUAL_C = 60.0  # a pair this far off a fit of the others is refused as a mistake
+NAME_PATTERN = re.compile(r"^[A-Za-z0-9][A-Za-z0-9 _.\-]{0,59}$")
+
+
+def _profiles_dir(data_dir: Path) -> Path:
+    return Path(data_dir) / "profiles"
+
+
+def _profile_path(data_dir: Path, name: str) -> Path:
+    if not NAME_PATTERN.match(name or ""):
+        raise ProfileError(
+            f"A profile name uses letters, digits, spaces, dots, dashes or underscores (up to 60); got {name!r}."
+        )
+    return _profiles_dir(data_dir) / (name.replace(" ", "_") + ".json")
+
+
+def save_profile(data_dir: Path, profile: CameraProfile) -> Path:
+    """Write a profile atomically (temporary file, fsync, rename); returns its path."""
+    path = _profile_path(data_dir, profile.name)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    handle, temporary = tempfile.mkstemp(prefix=".incoming-", suffix=".json", dir=path.parent)
+    try:
+        with os.fdopen(handle, "w", encoding="utf-8") as out:
+            json.dump(profile.to_dict(), out, indent=2, ensure_ascii=False)
+            out.flush()
+            os.fsync(out.fileno())
+        os.replace(temporary, path)
+    except BaseException:
+        Path(temporary).unlink(missing_ok=True)
+        raise
+    return path
+
+
+def load_profile(data_dir: Path, name: str) -> CameraProfile:
+    path = _profile_path(data_dir, name)
+    if not path.is_file():
+        known = ", ".join(p["name"] for p in list_profiles(data_dir)) or "none yet"
+        raise ProfileError(f"There is no camera profile called {name!r} (profiles: {known}).")
+    try:
+        record = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, ValueError) as error:
+        raise ProfileError(f"The camera profile {name!r} cannot be read ({error}).") from None
+    return CameraProfile.from_dict(record)
+
+
+def list_profiles(data_dir: Path) -> list[dict]:
+    """Summaries of the stored profiles: name, camera model, colour space, pairs, span in °C."""
+    summaries = []
+    for path in sorted(_profiles_dir(data_dir).glob("*.json")):
+        try:
+            profile = CameraProfile.from_dict(json.loads(path.read_text(encoding="utf-8")))
+        except (OSError, ValueError):
+            continue
+        summaries.append(
+            {
+                "name": profile.name,
+                "camera_model": profile.camera.get("camera_model"),
+                "colour_space": profile.colour_space,
+                "pairs": len(profile.pairs),
+                "span_c": list(profile.span_c),
+                "created": profile.created,
+            }
+        )
+    return summaries
+
+
+def delete_profile(data_dir: Path, name: str) -> None:
+    path = _profile_path(data_dir, name)
+    if not path.is_file():
+        raise ProfileError(f"There is no camera profile called {name!r}.")
+    path.unlink()
+
+
+def _reference(row: dict, number: int, data_dir: Path) -> tuple[float, float, str, str | None]:
+    text = (row.get("reference_c") or "").strip()
+    cone = (row.get("cone") or "").strip()
+    if text and cone:
+        raise ProfileError(f"Row {number}: give either reference_c or cone, not both.")
+    if cone:
+        try:
+            return cone_temperature_c(cone, data_dir), CONE_SIGMA_C, "cone", cone
+        except ConeError as error:
+            raise ProfileError(f"Row {number}: {error}") from None
+    try:
+        value = float(text)
+    except ValueError:
+        raise ProfileError(f"Row {number}: reference_c {text!r} is not a number of °C.") from None
+    low, high = PLAUSIBLE_REFERENCE_C
+    if not low <= value <= high:
+        raise ProfileError(
+            f"Row {number}: reference {value:g} °C is outside {low:.0f}-{high:.0f} °C, where glow can be measured."
+        )
+    return value, thermocouple_sigma_c(value), "thermocouple", None
+
+
+def read_pairs(csv_path: Path, data_dir: Path):
+    """Load and measure every row of a pairs CSV; returns (pairs, camera, space).
+
+    Raises :class:`ProfileError` naming the row for any problem; nothing is written.
+    """
+    from .photo import PhotoError, load_photo
+    from .reading import measure
+    from .region import RegionError, parse_region
+
+    csv_path = Path(csv_path)
+    try:
+        text = csv_path.read_text(encoding="utf-8-sig")
+    except (OSError, UnicodeDecodeError) as error:
+        raise ProfileError(f"Cannot read the pairs file {csv_path}: {error}") from None
+    reader = csv.DictReader(text.splitlines())
+    columns = set(reader.fieldnames or [])
+    if "photo" not in columns or not ({"reference_c", "cone"} & columns):
+        raise ProfileError(
+            "The pairs file needs a header with the columns photo and reference_c (or cone), "
+            f"optionally region; it has: {', '.join(sorted(columns)) or 'no header'}."
+        )
+    pairs, seen, camera, space = [], {}, None, None
+    for number, row in enumerate(reader, start=2):
+        name = (row.get("photo") or "").strip()
+        if not name:
+            raise ProfileError(f"Row {number}: the photo column is empty.")
+        reference_c, sigma_c, kind, cone = _reference(row, number, data_dir)
+        path = (csv_path.parent / name).resolve()
+        try:
+            data = path.read_bytes()
+        except OSError as error:
+            raise ProfileError(f"Row {number}: cannot read the photo {name}: {error.strerror}.") from None
+        digest = hashlib.sha256(data).hexdigest()
+        if digest in seen:
+            raise ProfileError(f"Row {number}: {name} is the same photo as row {seen[digest]}.")
+        seen[digest] = number
+        region_text = (row.get("region") or "").strip() or None
+        try:
+            region = parse_region(region_text) if region_text else None
+            photo = load_photo(data)
+            reading = measure(photo, region, photo_name=name)
+            log_ratio, log_sigma = pair_log_ratio(
+                reading.statistics.mean_linear, reading.statistics.standard_error
+            )
+        except (PhotoError, RegionError, ProfileError) as error:
+            raise ProfileError(f"Row {number} ({name}): {error}") from None
+        if space is None:
+            space, camera = photo.space, _camera_settings(photo)
+        elif photo.space.name != space.name:
+            raise ProfileError(
+                f"Row {number} ({name}): saved in {photo.space.name}, but earlier rows are "
+                f"{space.name}; make one profile per colour setting."
+            )
+        pairs.append(
+            Pair(name, log_ratio, log_sigma, reference_c, sigma_c, kind, cone, reading.region.to_text())
+        )
+    if not pairs:
+        raise ProfileError("The pairs file has a header but no rows.")
+    return pairs, camera, space
+
+
+def _camera_settings(photo) -> dict:
+    meta = photo.metadata
+    return {
+        "camera_make": meta.camera_make,
+        "camera_model": meta.camera_model,
+        "white_balance": meta.white_balance,
+        "iso": meta.iso,
+        "exposure_time_s": meta.exposure_time_s,
+    }
+
+
+def fit_from_csv(name: str, csv_path: Path, data_dir: Path) -> CameraProfile:
+    """Fit and save a profile from a pairs CSV; all or nothing."""
+    _profile_path(data_dir, name)  # validate the name before any work
+    pairs, camera, space = read_pairs(csv_path, data_dir)
+    created = datetime.now(timezone.utc).isoformat(timespec="seconds")
+    profile = fit_profile(name, pairs, space, camera, created)
+    if len(pairs) >= 3:
+        _refuse_wild_pairs(pairs, space)
+    save_profile(data_dir, profile)
+    return profile
+
+
+def _refuse_wild_pairs(pairs: list[Pair], space) -> None:
+    """Leave-one-out check: a pair far off the law fitted to the others is likely a mistake."""
+    for pair in pairs:
+        law = fit_ratio_law([p for p in pairs if p is not pair], space)
+        predicted = predict(law, pair.log_ratio, 0.0).temperature_k
+        miss = None if predicted is None else predicted - 273.15 - pair.reference_c
+        if miss is None or abs(miss) > WILD_RESIDUAL_C:
+            amount = "an impossible amount" if miss is None else f"{miss:+.0f} °C"
+            raise ProfileError(
+                f"The pair {pair.photo} disagrees with the others by {amount}: check its "
+                "reference value, region and camera settings, or leave it out."
+            )
