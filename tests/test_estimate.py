@@ -18,7 +18,7 @@ def reference_linear_rgb(temperature_k, space_name="sRGB"):
     return np.clip(rgb, 0.0, None)
 
 
-@pytest.mark.parametrize("temperature_k", [1050.0, 1200.0, 1400.0, 1600.0, 2000.0, 2800.0])
+@pytest.mark.parametrize("temperature_k", [1200.0, 1400.0, 1600.0, 2000.0, 2800.0])
 def test_recovers_reference_blackbody_colour(temperature_k):
     # Reference library: colour-science renders the blackbody; the band must hold the truth and
     # the centre lie close to it for an ideal colorimetric camera.
@@ -48,12 +48,15 @@ def test_srgb_below_its_green_floor_gives_only_a_ceiling():
     assert 900.0 < result.interval_95_k[1] < 1050.0
 
 
-def test_display_p3_still_resolves_900_kelvin():
-    # Display P3 (SMPTE EG 432-1 primaries) records green of a blackbody down to about 815 K.
-    rgb = reference_linear_rgb(900.0, "Display P3")
-    result = estimate_temperature(rgb / rgb[0] * 0.5, [0.0005] * 3, space=colourspaces.DISPLAY_P3)
+def test_display_p3_resolves_1000_kelvin_where_srgb_gives_only_a_ceiling():
+    # Display P3 (SMPTE EG 432-1 primaries) records a blackbody's green down to about 815 K,
+    # sRGB only above about 960 K (IEC 61966-2-1), so at 1000 K only P3 carries enough green.
+    p3 = reference_linear_rgb(1000.0, "Display P3")
+    result = estimate_temperature(p3 / p3[0] * 0.5, [0.0005] * 3, space=colourspaces.DISPLAY_P3)
     assert result.status == "ok"
-    assert result.interval_95_k[0] < 900.0 < result.interval_95_k[1]
+    assert result.interval_95_k[0] < 1000.0 < result.interval_95_k[1]
+    srgb = reference_linear_rgb(1000.0, "sRGB")
+    assert estimate_temperature(srgb / srgb[0] * 0.5, [0.0005] * 3).status == "upper-bound"
 
 
 def test_led_green_is_refused_as_not_glow():
