@@ -19,6 +19,7 @@ from contextlib import contextmanager
 from pathlib import Path
 
 from . import logbook_fields as fields
+from .cones import ConeError, cone_table
 from .logbook_fields import LogbookError
 from .logbook_schema import SchemaError, migrate, result_columns
 from .photo_store import PhotoStore, PhotoStoreError
@@ -37,14 +38,14 @@ TRUSTED_FIELDS = ("reference_c", "cone", "cone_state", "note", "taken_at", "firi
 FIRING_FIELDS = ("name", "kiln", "kind", "target_c", "target_cone", "started_at", "notes", "status")
 
 
-def _firing_values(**given) -> dict:
+def _firing_values(known_cones, **given) -> dict:
     """Check the editable fields of a firing; only those given are returned."""
     checks = {
         "name": lambda v: fields.text(v, "firing name", required=True),
         "kiln": lambda v: fields.text(v, "kiln or forge name"),
         "kind": lambda v: fields.choice(v, fields.FIRING_KINDS, "kind of firing"),
         "target_c": lambda v: fields.temperature_c(v, "target temperature"),
-        "target_cone": lambda v: fields.cone(v, "target cone"),
+        "target_cone": lambda v: fields.cone(v, known_cones, "target cone"),
         "started_at": lambda v: fields.time_text(v, "start time"),
         "notes": lambda v: fields.text(v, "notes", longest=fields.LONGEST_NOTE),
         "status": lambda v: fields.choice(v, fields.FIRING_STATUSES, "status"),
@@ -134,7 +135,7 @@ class Logbook:
     ) -> int:
         """Start a new open firing; returns its id."""
         values = _firing_values(
-            name=name, kiln=kiln, kind=kind, target_c=target_c, target_cone=target_cone, notes=notes,
+            self._known_cones(), name=name, kiln=kiln, kind=kind, target_c=target_c, target_cone=target_cone, notes=notes,
             started_at=fields.utc_now() if started_at is None else started_at,
         )  # fmt: skip
         values.update(status="open", created_at=fields.utc_now())
@@ -171,7 +172,7 @@ class Logbook:
 
     def update_firing(self, firing_id: int, **changes) -> dict:
         """Change a firing's fields (name, kiln, kind, target_c, target_cone, started_at, notes, status)."""
-        values = _firing_values(**changes)
+        values = _firing_values(self._known_cones(), **changes)
         with self._write() as db:
             self._need_firing(firing_id)
             if "status" in values:
@@ -236,11 +237,17 @@ class Logbook:
         except (TypeError, ValueError) as error:
             raise LogbookError(f"A reading's result cannot be stored as JSON: {error}.") from None
 
-    @staticmethod
-    def _trusted_values(**given) -> dict:
+    def _known_cones(self) -> set[str]:
+        try:
+            return set(cone_table(self.data_dir)[0])
+        except ConeError as error:
+            raise LogbookError(str(error)) from None
+
+    def _trusted_values(self, **given) -> dict:
+        known_cones = self._known_cones() if "cone" in given else set()
         checks = {
             "reference_c": lambda v: fields.temperature_c(v, "thermocouple reading"),
-            "cone": fields.cone,
+            "cone": lambda v: fields.cone(v, known_cones),
             "cone_state": lambda v: None if v in (None, "") else fields.choice(v, fields.CONE_STATES, "cone state"),
             "note": lambda v: fields.text(v, "note", longest=fields.LONGEST_NOTE),
             "taken_at": lambda v: fields.time_text(v, "time the photo was taken"),
@@ -311,7 +318,7 @@ class Logbook:
         ``firing`` has the columns of :meth:`get_firing` (id and counts are ignored); each reading
         has those of :meth:`get_reading`. Every photo must already be in the store.
         """
-        firing_values = _firing_values(**{name: firing.get(name) for name in FIRING_FIELDS})
+        firing_values = _firing_values(self._known_cones(), **{name: firing.get(name) for name in FIRING_FIELDS})
         firing_values.update(
             closed_at=None if firing.get("closed_at") is None else fields.time_text(firing["closed_at"], "closing time"),
             created_at=fields.time_text(firing["created_at"], "creation time"),

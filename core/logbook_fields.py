@@ -1,7 +1,6 @@
 """What a firing and a reading may hold: the allowed values, checked with plain-word errors.
 
-Cone numbers follow the usual pyrometric cone series, 022 (coolest) to 01, then 1 to 42
-(common practice). Times are kept as ISO 8601 text in UTC (``2024-03-01T18:30:00+00:00``),
+Cones are those of the cone table in use (:mod:`glowtemp.cones`). Times are kept as ISO 8601 text in UTC (``2024-03-01T18:30:00+00:00``),
 so they sort as text and carry their offset; a time without an offset is read as the
 machine's local time.
 """
@@ -10,6 +9,8 @@ from __future__ import annotations
 
 import math
 from datetime import datetime, timezone
+
+from .cones import normalise_cone
 
 FIRING_KINDS = ("bisque", "glaze", "glass", "forging", "heat treatment", "other")
 FIRING_STATUSES = ("open", "closed")
@@ -76,22 +77,22 @@ def temperature_c(value, what: str) -> float | None:
     return number
 
 
-def cone(value, what: str = "cone") -> str | None:
-    """A cone number in its usual written form ('06', '010', '6', '10'), or None.
+def cone(value, known_cones, what: str = "cone") -> str | None:
+    """A cone name in the cone table's form (see :func:`glowtemp.cones.normalise_cone`), or None.
 
-    >>> cone(" 06 "), cone("10")
-    ('06', '10')
+    >>> cone(" cone 06 ", {"06", "6"})
+    '06'
     """
-    value = text(value, what, longest=8)
+    value = text(value, what, longest=12)
     if value is None:
         return None
-    if value.isdigit():
-        number = int(value)
-        written = "0" + str(number) if value.startswith("0") else str(number)
-        in_series = 1 <= number <= (22 if value.startswith("0") else 42)
-        if in_series and written == value:
-            return value
-    raise LogbookError(f"A {what} is a cone number from 022 to 01 or 1 to 42, like 06 or 6; got {value!r}.")
+    name = normalise_cone(value)
+    if name not in known_cones:
+        raise LogbookError(
+            f"The {what} {value!r} is not in the cone table; write it like 06, 6 or 5.5 "
+            f"(a cones.csv in the data folder can add cones)."
+        )
+    return name
 
 
 def choice(value, allowed: tuple, what: str) -> str:

@@ -148,7 +148,8 @@ def test_reading_needs_its_photo_stored_first(log):
     "trusted",
     [
         {"reference_c": "warm"},
-        {"cone": "6½"},
+        {"cone": "6½"},  # no cone 6½ in the cone table (common practice: half cones are 05½ and 5½)
+        {"cone": "15"},  # beyond the shipped table
         {"cone_state": "melted", "cone": "6"},
         {"cone_state": "bent"},
         {"firing_id": 999},
@@ -177,6 +178,7 @@ def test_editing_trusted_values_and_result(log):
     reading_id = add(log, firing_id, 1, 900)
     edited = log.update_reading(reading_id, reference_c=912, cone="010", cone_state="standing", note="shelf 2")
     assert (edited["reference_c"], edited["cone"], edited["cone_state"], edited["note"]) == (912, "010", "standing", "shelf 2")
+    assert log.update_reading(reading_id, cone="cone 5 1/2")["cone"] == "5.5"
     before = log.get_reading(reading_id)
     with pytest.raises(LogbookError):
         log.update_reading(reading_id, cone=None)  # would leave a cone state without its cone
