@@ -62,6 +62,7 @@ TARGET_CODE = 0.75  # auto exposure puts the brightest glow's strongest channel 
 FULL_WELL_ELECTRONS = 6000.0  # at ISO 100; a small phone pixel (from memory)
 READ_NOISE_ELECTRONS = 2.5  # rms, from memory for phone sensors
 BASE_ISO = 100
+REFERENCE_TEMPERATURE_K = 1273.15  # 1000 °C: sets plausible exposure times and light brightness
 REFERENCE_EXPOSURE_S = 1 / 125  # invented: the ideal camera's auto exposure of 1000 °C at ISO 100
 DEFAULT_TAKEN_AT = datetime(2024, 3, 1, 12, 0, 0)  # invented default capture time
 _LUT_SIZE = 65536
@@ -121,6 +122,11 @@ class RenderedPhoto:
     taken_at: datetime
 
 
+def _luminance(radiance_on_grid) -> float:
+    """CIE Y of a spectrum on the 1 nm grid, on the same absolute scale as the raw signal."""
+    return float(radiance_on_grid @ colour_matching_functions()[1][:, 1] * 1e-9)
+
+
 @lru_cache(maxsize=None)
 def _blackbody_luminance_table(size: int) -> np.ndarray:
     """CIE Y of a blackbody on the raw tables' 1 K grid (same absolute scale as the raw)."""
@@ -148,7 +154,7 @@ class _Light:
 
     def __init__(self, camera: CameraModel, radiance_on_grid):
         self.spectrum_raw = raw_response(camera, radiance_on_grid).astype(np.float32)
-        self.spectrum_y = float(radiance_on_grid @ colour_matching_functions()[1][:, 1] * 1e-9)
+        self.spectrum_y = _luminance(radiance_on_grid)
 
     def raw(self, temperature_k, weight):
         return weight[..., None].astype(np.float32) * self.spectrum_raw
@@ -185,8 +191,8 @@ def _white_balance_gains(camera, white_balance, sample_raw):
 
 @lru_cache(maxsize=1)
 def _reference_exposure_scale() -> float:
-    """Auto exposure scale of the ideal camera for a 1273.15 K blackbody (sRGB, sRGB curve)."""
-    xyz = blackbody_xyz(1273.15)[0]
+    """Auto exposure scale of the ideal camera for a 1000 °C blackbody (sRGB, sRGB curve)."""
+    xyz = blackbody_xyz(REFERENCE_TEMPERATURE_K)[0]
     return _target_linear("srgb") / float((SRGB.xyz_to_rgb @ xyz).max())
 
 
@@ -200,8 +206,7 @@ def _render(scene: Scene, emitter, *, camera, white_balance, output_space, tone_
     if brightest_y <= 0:
         raise SyntheticInputError("The scene emits no visible light; raise the temperature.")
     daylight = illuminant_on_grid("D65")
-    ambient_raw = (ambient * brightest_y / float(daylight @ colour_matching_functions()[1][:, 1] * 1e-9)
-                   * raw_response(camera, daylight)).astype(np.float32)
+    ambient_raw = (ambient * brightest_y / _luminance(daylight) * raw_response(camera, daylight)).astype(np.float32)
     sample_raw = emitter.raw(sample_t, sample_w) + ambient_raw
     wb_label, gains = _white_balance_gains(camera, white_balance, sample_raw)
     to_output = (output_space.xyz_to_rgb @ colour_matrix(camera) @ np.diag(gains)).astype(np.float32)
@@ -281,7 +286,8 @@ def render_light_photo(wavelengths_nm, spectral_radiance, *, camera: CameraModel
     """Render a photo of a light that is not glow (an LED, a lamp, a lit grey card).
 
     The scene's glowing parts emit the given spectrum (relative units, resampled onto 1 nm)
-    instead of Planck radiance; ``truth_k`` is NaN everywhere. Other arguments as
+    instead of Planck radiance, scaled to the luminance of a 1000 °C blackbody so exposure
+    settings look like a kiln photo's; ``truth_k`` is NaN everywhere. Other arguments as
     :func:`render_photo`.
     """
     _check_settings(camera, white_balance, output_space, tone_curve, 1.0, ambient, overexpose, exposure, iso)
@@ -289,6 +295,7 @@ def render_light_photo(wavelengths_nm, spectral_radiance, *, camera: CameraModel
                        np.asarray(spectral_radiance, float), left=0.0, right=0.0)
     if np.any(values < 0) or not np.any(values > 0):
         raise SyntheticInputError("A light's spectral radiance must be non-negative and not all zero.")
+    values = values * float(blackbody_xyz(REFERENCE_TEMPERATURE_K)[0, 1]) / _luminance(values)
     built = build_scene(scene, size, 1000.0, wall="black", emissivity=1.0)
     built = Scene(np.full_like(built.temperature_k, np.nan), built.weight, built.region)
     return _render(built, _Light(camera, values), camera=camera, white_balance=white_balance,
