@@ -1,0 +1,436 @@
+"""Photo decoding: file bytes to upright integer codes, their RGB space and a linearisation table.
+
+A :class:`Photo` keeps the pixels as the file encodes them (8- or 16-bit integers, never a float
+copy of the whole image) together with a per-channel table from code value to linear light,
+taken from the embedded ICC profile, from EXIF, or assumed sRGB. Linearising any set of pixels
+is then one fancy-index, ``decode_table[channel, code]``.
+
+Pillow reads JPEG, PNG and TIFF, their ICC profiles and EXIF. Pillow reduces 16-bit RGB to
+8 bits, so 16-bit PNG pixels are read with pypng and 16-bit TIFF pixels with tifffile.
+
+References
+----------
+- CIPA DC-008-2019 / JEITA CP-3451E, Exchangeable image file format for digital still cameras
+  (Exif 2.32): Orientation (0x0112), ExposureTime, FNumber, PhotographicSensitivity,
+  DateTimeOriginal, ColorSpace (0xA001), WhiteBalance (0xA403), InteroperabilityIndex.
+- CIPA DC-009-2010, Design rule for Camera File system (DCF 2.0), Optional colour space:
+  InteroperabilityIndex "R03" marks Adobe RGB (1998) files.
+- IEC 61966-2-1:1999 (sRGB) and Adobe RGB (1998) Color Image Encoding (gamma 563/256).
+- ICC.1:2010, see :mod:`glowtemp.icc`.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+import os
+import struct
+import zlib
+from dataclasses import dataclass
+from datetime import datetime
+from pathlib import Path
+
+import numpy as np
+import png
+import tifffile
+from PIL import Image, UnidentifiedImageError
+
+from .colourspaces import ADOBE_RGB, SRGB, RGBSpace, gamma_decode, srgb_decode
+from .icc import IccError, parse_icc_profile
+
+READABLE = "JPEG, PNG or TIFF"
+MIN_SIDE_PX = 8
+ADOBE_RGB_GAMMA = 563 / 256  # Adobe RGB (1998) Color Image Encoding, section 4.3.1.2
+STRIP_BYTES = 2 << 20  # Pillow pixels are copied out in strips of about this size
+
+TAG_ORIENTATION = 0x0112
+TAG_MAKE, TAG_MODEL = 0x010F, 0x0110
+IFD_EXIF, IFD_INTEROP = 0x8769, 0xA005
+TAG_EXPOSURE_TIME, TAG_F_NUMBER, TAG_ISO = 0x829A, 0x829D, 0x8827
+TAG_DATETIME_ORIGINAL, TAG_COLOR_SPACE, TAG_WHITE_BALANCE = 0x9003, 0xA001, 0xA403
+TAG_INTEROP_INDEX = 0x0001
+TAG_DNG_VERSION = 0xC612
+
+# What a failing decoder may raise on damaged input (Pillow, pypng, tifffile, zlib).
+DECODER_FAILURES = (
+    OSError, ValueError, SyntaxError, EOFError, IndexError, KeyError, TypeError,
+    struct.error, zlib.error, png.Error, Image.DecompressionBombError,
+)
+
+
+class PhotoError(ValueError):
+    """A file glowtemp cannot use as a photo, with the reason and what to do in plain words."""
+
+
+@dataclass(frozen=True)
+class PhotoMetadata:
+    """Camera settings from EXIF that matter for a glow reading (CIPA DC-008)."""
+
+    white_balance: str | None = None  # "auto" | "manual" (WhiteBalance 0 / 1)
+    exposure_time_s: float | None = None
+    iso: int | None = None
+    f_number: float | None = None
+    camera_make: str | None = None
+    camera_model: str | None = None
+    taken_at: datetime | None = None  # DateTimeOriginal, camera local time, no zone
+
+    def to_dict(self) -> dict:
+        return {
+            "white_balance": self.white_balance,
+            "exposure_time_s": self.exposure_time_s,
+            "iso": self.iso,
+            "f_number": self.f_number,
+            "camera_make": self.camera_make,
+            "camera_model": self.camera_model,
+            "taken_at": self.taken_at.isoformat() if self.taken_at else None,
+        }
+
+
+_CHANNELS = np.arange(3)
+
+
+@dataclass(frozen=True, eq=False)
+class Photo:
+    """A decoded photo: upright encoded codes and how they map to linear light.
+
+    ``codes`` is a read-only (H, W, 3) uint8 or uint16 array; ``decode_table`` is float32 of
+    shape (3, max_code + 1); ``space_source`` is ``"icc"``, ``"exif"`` or ``"assumed"``;
+    ``profile_problem`` says why an embedded profile was not used (then sRGB is assumed).
+    """
+
+    codes: np.ndarray
+    max_code: int
+    space: RGBSpace
+    space_source: str
+    decode_table: np.ndarray
+    metadata: PhotoMetadata
+    format: str
+    profile_problem: str | None = None
+
+    @property
+    def width(self) -> int:
+        return self.codes.shape[1]
+
+    @property
+    def height(self) -> int:
+        return self.codes.shape[0]
+
+    def linear(self, pixels: np.ndarray) -> np.ndarray:
+        """Linear light in [0, 1] of integer ``pixels`` of shape (..., 3), float32, same shape."""
+        pixels = np.asarray(pixels)
+        if pixels.shape[-1:] != (3,) or not np.issubdtype(pixels.dtype, np.integer):
+            raise ValueError("pixels must be integer codes with 3 channels in the last axis")
+        return self.decode_table[_CHANNELS, pixels]
+
+
+# --- orientation ---------------------------------------------------------------------------
+
+
+def upright(codes: np.ndarray, orientation: int) -> np.ndarray:
+    """Turn stored pixels (H, W, ...) upright for an EXIF Orientation value, CIPA DC-008 0x0112.
+
+    The value names where the stored 0th row and 0th column lie in the visual image:
+    1 top/left, 2 top/right, 3 bottom/right, 4 bottom/left, 5 left/top, 6 right/top,
+    7 right/bottom, 8 left/bottom. Unknown values are treated as 1. Returns a view.
+
+    >>> stored = np.array([[1, 2, 3], [4, 5, 6]])
+    >>> upright(stored, 6).tolist()  # camera turned a quarter clockwise
+    [[4, 1], [5, 2], [6, 3]]
+    """
+    swap = (1, 0) + tuple(range(2, codes.ndim))
+    if orientation == 2:
+        return codes[:, ::-1]
+    if orientation == 3:
+        return codes[::-1, ::-1]
+    if orientation == 4:
+        return codes[::-1, :]
+    if orientation == 5:
+        return codes.transpose(swap)
+    if orientation == 6:
+        return codes[::-1, :].transpose(swap)
+    if orientation == 7:
+        return codes[::-1, ::-1].transpose(swap)
+    if orientation == 8:
+        return codes[:, ::-1].transpose(swap)
+    return codes
+
+
+# --- reading the container -----------------------------------------------------------------
+
+
+def _read_bytes(source) -> bytes:
+    if isinstance(source, (str, os.PathLike)):
+        try:
+            data = Path(source).read_bytes()
+        except OSError as error:
+            raise PhotoError(f"The file {os.fspath(source)} could not be read ({error.strerror}).") from error
+    elif isinstance(source, (bytes, bytearray, memoryview)):
+        data = bytes(source)
+    elif hasattr(source, "read"):
+        data = source.read()
+        if not isinstance(data, bytes):
+            raise TypeError("load_photo needs a file opened in binary mode")
+    else:
+        raise TypeError(f"load_photo needs a path, bytes or a binary file, not {type(source).__name__}")
+    if not data:
+        raise PhotoError("The file is empty (0 bytes): it holds no photo.")
+    return data
+
+
+def _open(data: bytes) -> Image.Image:
+    try:
+        return Image.open(io.BytesIO(data), formats=("JPEG", "PNG", "TIFF", "GIF", "WEBP"))
+    except Image.DecompressionBombError as error:
+        raise PhotoError(
+            "The image is far too large to be a photo (its header claims more than "
+            f"{Image.MAX_IMAGE_PIXELS * 2 // 1_000_000} megapixels); it may be damaged or hostile."
+        ) from error
+    except UnidentifiedImageError as error:
+        if data[4:8] == b"ftyp":
+            raise PhotoError(
+                "This looks like a HEIC/HEIF or AVIF photo, which glowtemp cannot read yet; "
+                "export it as JPEG (or set the camera to save JPEG)."
+            ) from error
+        raise PhotoError(f"This file is not an image glowtemp can read ({READABLE}).") from error
+    except DECODER_FAILURES as error:
+        raise PhotoError(f"The image header is damaged, so the photo cannot be read ({error}).") from error
+
+
+def _check_image(image: Image.Image, max_pixels: int) -> str:
+    """Refuse what glowtemp cannot use before decoding any pixels; return the format name."""
+    fmt = "JPEG" if image.format == "MPO" else image.format  # MPO: JPEG plus extra pictures
+    try:
+        frames = 1 if image.format == "MPO" else getattr(image, "n_frames", 1)
+    except DECODER_FAILURES as error:
+        raise PhotoError(f"The image's frame list is damaged ({error}).") from error
+    if frames > 1:
+        raise PhotoError(
+            f"This {image.format} file holds {frames} frames (an animation or several pages); "
+            "glowtemp reads one still photo: export the photo alone as JPEG or PNG."
+        )
+    if fmt not in ("JPEG", "PNG", "TIFF"):
+        raise PhotoError(f"This is a {fmt} image; glowtemp reads photos saved as {READABLE}.")
+    if fmt == "TIFF" and TAG_DNG_VERSION in image.tag_v2:
+        raise PhotoError("RAW (DNG) files are not read yet; export the photo as JPEG, PNG or TIFF.")
+    width, height = image.size
+    if width * height > max_pixels:
+        raise PhotoError(
+            f"The image is {width} x {height} pixels ({width * height / 1e6:.0f} megapixels), "
+            f"more than the {max_pixels / 1e6:g} megapixels glowtemp accepts; resize it first."
+        )
+    if min(width, height) < MIN_SIDE_PX:
+        raise PhotoError(
+            f"The image is only {width} x {height} pixels; glowtemp needs at least "
+            f"{MIN_SIDE_PX} x {MIN_SIDE_PX}."
+        )
+    if image.mode == "CMYK":
+        raise PhotoError(
+            "CMYK photos are print separations, not camera colour; export the photo as JPEG or PNG."
+        )
+    return fmt
+
+
+def _exif(image: Image.Image) -> tuple[dict, dict, dict]:
+    """Base IFD, Exif IFD and Interoperability IFD as dicts; empty where missing or damaged."""
+    try:
+        exif = image.getexif()
+        base = dict(exif)
+        exif_ifd = dict(exif.get_ifd(IFD_EXIF)) if IFD_EXIF in exif else {}
+        interop = dict(exif.get_ifd(IFD_INTEROP)) if IFD_INTEROP in exif_ifd else {}
+    except DECODER_FAILURES:
+        return {}, {}, {}
+    return base, exif_ifd, interop
+
+
+def _number(value) -> float | None:
+    if isinstance(value, (tuple, list)):
+        value = value[0] if value else None
+    try:
+        number = float(value)
+    except (TypeError, ValueError, ZeroDivisionError):
+        return None
+    return number if math.isfinite(number) and number > 0 else None
+
+
+def _text(value) -> str | None:
+    if isinstance(value, bytes):
+        value = value.decode("latin-1")
+    text = value.strip("\0 ").strip() if isinstance(value, str) else ""
+    return text or None
+
+
+def _taken_at(value) -> datetime | None:
+    text = _text(value)
+    try:
+        return datetime.strptime(text, "%Y:%m:%d %H:%M:%S") if text else None
+    except ValueError:
+        return None
+
+
+def _metadata(base: dict, exif_ifd: dict) -> PhotoMetadata:
+    iso = _number(exif_ifd.get(TAG_ISO))
+    return PhotoMetadata(
+        white_balance={0: "auto", 1: "manual"}.get(exif_ifd.get(TAG_WHITE_BALANCE)),
+        exposure_time_s=_number(exif_ifd.get(TAG_EXPOSURE_TIME)),
+        iso=round(iso) if iso else None,
+        f_number=_number(exif_ifd.get(TAG_F_NUMBER)),
+        camera_make=_text(base.get(TAG_MAKE)),
+        camera_model=_text(base.get(TAG_MODEL)),
+        taken_at=_taken_at(exif_ifd.get(TAG_DATETIME_ORIGINAL)),
+    )
+
+
+# --- pixels --------------------------------------------------------------------------------
+
+
+def _three_channels(pixels: np.ndarray, colour: bool) -> np.ndarray:
+    """(H, W) or (H, W, planes) to (H, W, 3): drop alpha, repeat grey."""
+    if pixels.ndim == 2:
+        pixels = pixels[:, :, None]
+    if colour:
+        return pixels[:, :, :3]
+    return np.repeat(pixels[:, :, :1], 3, axis=2)
+
+
+def _pillow_pixels(image: Image.Image) -> np.ndarray:
+    """8-bit pixels as (H, W, 3) uint8, copied out in strips to keep the peak memory low."""
+    image.load()
+    if image.mode in ("RGBA", "RGBX", "P", "PA"):
+        image = image.convert("RGB")
+    elif image.mode in ("LA", "1"):
+        image = image.convert("L")
+    if image.mode not in ("RGB", "L"):
+        raise PhotoError(
+            f"The image stores pixels as {image.mode}, which glowtemp does not read; "
+            "export it as an 8- or 16-bit RGB JPEG, PNG or TIFF."
+        )
+    width, height = image.size
+    planes = 3 if image.mode == "RGB" else 1
+    pixels = np.empty((height, width, planes), dtype=np.uint8)
+    rows = max(1, STRIP_BYTES // (4 * width))
+    for top in range(0, height, rows):
+        strip = image.crop((0, top, width, min(top + rows, height))).tobytes()
+        pixels[top : top + rows] = np.frombuffer(strip, np.uint8).reshape(-1, width, planes)
+    return _three_channels(pixels, colour=planes == 3)
+
+
+def _png16_pixels(data: bytes) -> np.ndarray:
+    """16-bit PNG pixels with pypng (PNG 3rd ed., ISO/IEC 15948): (H, W, 3) uint16."""
+    width, height, rows, info = png.Reader(bytes=data).read()
+    planes = info["planes"]
+    pixels = np.empty((height, width * planes), dtype=np.uint16)
+    for index, row in enumerate(rows):
+        pixels[index] = row
+    return _three_channels(pixels.reshape(height, width, planes), colour=not info["greyscale"])
+
+
+def _tiff16_pixels(data: bytes) -> np.ndarray:
+    """16-bit TIFF pixels with tifffile (TIFF 6.0): (H, W, 3) uint16."""
+    with tifffile.TiffFile(io.BytesIO(data)) as tiff:
+        page = tiff.pages[0]
+        colour = page.photometric == tifffile.PHOTOMETRIC.RGB
+        if not colour and page.photometric != tifffile.PHOTOMETRIC.MINISBLACK:
+            raise PhotoError(
+                f"This 16-bit TIFF stores colour as {page.photometric.name}; "
+                "save it as RGB or greyscale."
+            )
+        if page.sampleformat != tifffile.SAMPLEFORMAT.UINT:
+            raise PhotoError("This TIFF holds floating-point or signed samples; save it as 16-bit RGB.")
+        try:
+            tifffile.TIFF.DECOMPRESSORS[page.compression]  # KeyError when a codec is missing
+        except KeyError as error:
+            raise PhotoError(
+                f"This 16-bit TIFF uses {page.compression.name} compression, which glowtemp cannot "
+                "decode; save it uncompressed or with ZIP compression, or as a 16-bit PNG."
+            ) from error
+        pixels = page.asarray()
+        if "S" in page.axes:
+            pixels = np.moveaxis(pixels, page.axes.index("S"), -1)
+    return _three_channels(pixels.astype(np.uint16, copy=False), colour)
+
+
+def _pixels(image: Image.Image, data: bytes, fmt: str) -> np.ndarray:
+    try:
+        if fmt == "PNG" and data[24] == 16:  # IHDR bit depth, PNG 3rd ed. section 11.2.1
+            return _png16_pixels(data)
+        if fmt == "TIFF" and 16 in np.atleast_1d(image.tag_v2.get(258, 8)):  # BitsPerSample
+            return _tiff16_pixels(data)
+        return _pillow_pixels(image)
+    except PhotoError:
+        raise
+    except DECODER_FAILURES as error:
+        raise PhotoError(
+            f"The image data is truncated or damaged ({error}); the file may not have "
+            "finished copying. Try the original photo again."
+        ) from error
+
+
+# --- colour encoding -----------------------------------------------------------------------
+
+
+def _curve_table(decode, max_code: int) -> np.ndarray:
+    linear = decode(np.arange(max_code + 1) / max_code).astype(np.float32)
+    return np.repeat(linear[None, :], 3, axis=0)
+
+
+def _as_phrase(error: Exception) -> str:
+    text = str(error).rstrip(".")
+    return text[:1].lower() + text[1:]
+
+
+def _colour_encoding(icc_bytes, exif_ifd: dict, interop: dict, max_code: int):
+    """(space, space_source, decode_table, profile_problem) from the ICC profile or EXIF."""
+    if icc_bytes:
+        try:
+            profile = parse_icc_profile(icc_bytes)
+        except IccError as error:
+            return SRGB, "assumed", _curve_table(srgb_decode, max_code), _as_phrase(error)
+        return profile.rgb_space, "icc", profile.decode_table(max_code), None
+    colour_space = exif_ifd.get(TAG_COLOR_SPACE)
+    if colour_space == 1:  # Exif ColorSpace: 1 = sRGB
+        return SRGB, "exif", _curve_table(srgb_decode, max_code), None
+    if colour_space == 0xFFFF and _text(interop.get(TAG_INTEROP_INDEX)) == "R03":  # DCF option file
+        adobe = _curve_table(lambda v: gamma_decode(v, ADOBE_RGB_GAMMA), max_code)
+        return ADOBE_RGB, "exif", adobe, None
+    return SRGB, "assumed", _curve_table(srgb_decode, max_code), None
+
+
+# --- the whole decode ----------------------------------------------------------------------
+
+
+def load_photo(source, *, max_pixels: int = 50_000_000) -> Photo:
+    """Decode a JPEG, PNG or TIFF photo to upright integer codes and a linearisation table.
+
+    ``source`` is a path, the file's bytes, or a binary file object; the type is decided by
+    content, not by name. EXIF orientation is applied, alpha dropped, greyscale repeated into
+    three channels and palettes expanded. 16-bit PNG and TIFF keep their 16-bit codes.
+
+    Raises :class:`PhotoError` with a plain-words reason for anything that is not a usable
+    still photo: empty, truncated, damaged, not an image, CMYK, animated or multi-page, larger
+    than ``max_pixels`` (checked from the header, before decoding) or smaller than 8 x 8.
+    """
+    data = _read_bytes(source)
+    image = _open(data)
+    try:
+        fmt = _check_image(image, max_pixels)
+        icc_bytes = image.info.get("icc_profile")
+        codes = _pixels(image, data, fmt)
+        base, exif_ifd, interop = _exif(image)  # after the pixels: Pillow finds PNG eXIf late
+    finally:
+        image.close()  # frees Pillow's pixel memory now (leaving a `with` block does not)
+    max_code = 65535 if codes.dtype == np.uint16 else 255
+    orientation = base.get(TAG_ORIENTATION, 1)
+    if orientation != 1:
+        codes = np.ascontiguousarray(upright(codes, orientation))
+    codes.flags.writeable = False
+    space, space_source, table, problem = _colour_encoding(icc_bytes, exif_ifd, interop, max_code)
+    return Photo(
+        codes=codes,
+        max_code=max_code,
+        space=space,
+        space_source=space_source,
+        decode_table=table,
+        metadata=_metadata(base, exif_ifd),
+        format=fmt,
+        profile_problem=problem,
+    )
