@@ -1,0 +1,130 @@
+"""A firing's curve as numbers: elapsed time, estimates with bands, trusted values, climb rates.
+
+Pure functions of the firing log's dicts (:mod:`glowtemp.logbook`); drawing lives in
+:mod:`glowtemp.curve_chart`. Climb rates use the estimated temperature only, never a mix
+of estimates and thermocouple values, so a camera's offset does not show up as a jump.
+
+References
+----------
+- NIST/SEMATECH e-Handbook of Statistical Methods, section 4.1.4.1, "Linear Least Squares
+  Regression" (the slope used for the rate over the last hours).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import datetime
+
+SECONDS_PER_HOUR = 3600.0
+
+
+@dataclass(frozen=True)
+class CurvePoint:
+    """One reading placed on the curve; temperatures in °C, None where the reading has none."""
+
+    reading_id: int
+    hours: float
+    temperature_c: float | None
+    band68_c: tuple[float, float] | None
+    band95_c: tuple[float, float] | None
+    upper_bound_c: float | None
+    reference_c: float | None
+    cone: str | None
+    cone_state: str | None
+    cone_c: float | None
+
+
+def elapsed_hours(start: str, moment: str) -> float:
+    """Hours from ``start`` to ``moment`` (ISO 8601 texts with offsets).
+
+    >>> elapsed_hours("2024-03-01T08:00:00+00:00", "2024-03-01T10:30:00+01:00")
+    1.5
+    """
+    return (datetime.fromisoformat(moment) - datetime.fromisoformat(start)).total_seconds() / SECONDS_PER_HOUR
+
+
+def curve_points(firing: dict, readings: list[dict], cone_temperatures_c: dict[str, float]) -> list[CurvePoint]:
+    """The firing's readings (as from ``Logbook.readings_in``) as curve points, by time.
+
+    ``cone_temperatures_c`` maps cone names to their approximate bending temperature
+    (:func:`glowtemp.cones.cone_table`); a cone missing from it gets no height on the chart.
+    """
+    points = [
+        CurvePoint(
+            reading_id=r["id"],
+            hours=elapsed_hours(firing["started_at"], r["taken_at"]),
+            temperature_c=r["temperature_c"],
+            band68_c=None if r["interval_68_c"] is None else tuple(r["interval_68_c"]),
+            band95_c=None if r["interval_95_c"] is None else tuple(r["interval_95_c"]),
+            upper_bound_c=r["upper_bound_c"],
+            reference_c=r["reference_c"],
+            cone=r["cone"],
+            cone_state=r["cone_state"],
+            cone_c=cone_temperatures_c.get(r["cone"]) if r["cone"] else None,
+        )
+        for r in readings
+    ]
+    return sorted(points, key=lambda p: (p.hours, p.reading_id))
+
+
+def firing_target_c(firing: dict, cone_temperatures_c: dict[str, float]) -> tuple[float | None, str | None]:
+    """The firing's target in °C and what it is: a temperature, or a cone's approximate one."""
+    if firing.get("target_c") is not None:
+        return firing["target_c"], "target"
+    cone = firing.get("target_cone")
+    if cone and cone in cone_temperatures_c:
+        return cone_temperatures_c[cone], f"target cone {cone} (approximate)"
+    return None, None
+
+
+def climb_rates_c_per_h(hours: list[float], temperatures_c: list[float]) -> list[float | None]:
+    """Rate of climb between consecutive readings, in °C per hour (negative while cooling).
+
+    One value per pair of neighbours; None where two readings share the same time.
+
+    >>> climb_rates_c_per_h([0.0, 0.5, 2.0], [100.0, 160.0, 310.0])
+    [120.0, 100.0]
+    """
+    rates = []
+    for (h0, t0), (h1, t1) in zip(zip(hours, temperatures_c), zip(hours[1:], temperatures_c[1:])):
+        rates.append(None if h1 == h0 else (t1 - t0) / (h1 - h0))
+    return rates
+
+
+def recent_climb_rate_c_per_h(hours: list[float], temperatures_c: list[float], window_h: float = 1.0) -> float | None:
+    """Rate over the last ``window_h`` hours: the least-squares slope of the readings in it, °C/h.
+
+    The readings taken within ``window_h`` of the last one count; None with fewer than two of
+    them or when they all share one time. With exactly two it is their plain climb rate.
+
+    >>> recent_climb_rate_c_per_h([0.0, 1.5, 2.0], [100.0, 310.0, 330.0], window_h=1.0)
+    40.0
+    """
+    if not hours:
+        return None
+    last = hours[-1]
+    window = [(h, t) for h, t in zip(hours, temperatures_c) if h >= last - window_h]
+    if len(window) < 2:
+        return None
+    mean_h = sum(h for h, _ in window) / len(window)
+    mean_t = sum(t for _, t in window) / len(window)
+    spread = sum((h - mean_h) ** 2 for h, _ in window)
+    if spread == 0:
+        return None
+    return sum((h - mean_h) * (t - mean_t) for h, t in window) / spread
+
+
+def estimate_series(points: list[CurvePoint]) -> tuple[list[float], list[float]]:
+    """Hours and estimated °C of the points that have an estimate."""
+    usable = [p for p in points if p.temperature_c is not None]
+    return [p.hours for p in usable], [p.temperature_c for p in usable]
+
+
+def rate_summary(points: list[CurvePoint], windows_h=(1.0, 2.0)) -> dict:
+    """The latest climb rate between readings and the rates over the last hours, in °C/h."""
+    hours, temperatures = estimate_series(points)
+    rates = [r for r in climb_rates_c_per_h(hours, temperatures) if r is not None]
+    return {
+        "last_step_c_per_h": rates[-1] if rates else None,
+        "over_last_hours_c_per_h": {window: recent_climb_rate_c_per_h(hours, temperatures, window) for window in windows_h},
+    }

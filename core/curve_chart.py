@@ -1,0 +1,142 @@
+"""The firing curve drawn with matplotlib (Agg, no display): SVG for the web page, PNG for the CLI.
+
+Upper panel: the estimated temperature with its 95 % band (light) and 68 % band (darker),
+ceilings for readings whose colour gives only an upper bound, thermocouple values as
+diamonds, witness cones as triangles at their approximate bending temperature (filled when
+bent, hollow when standing) labelled with their cone, and the target as a dashed line.
+Lower panel: the climb rate between consecutive estimates.
+
+matplotlib is imported when a chart is drawn, so nothing else pays its start-up time. Only
+the object-oriented API is used (no pyplot state), and drawing is serialised by a lock
+because matplotlib's text and font caches are shared between threads.
+"""
+
+from __future__ import annotations
+
+import io
+import threading
+
+from .cones import cone_table
+from .curve import CurvePoint, climb_rates_c_per_h, curve_points, estimate_series, firing_target_c
+from .scales import celsius_to_fahrenheit
+
+ESTIMATE_COLOUR = "#8c3b12"
+BAND95_COLOUR = "#f4c59b"
+BAND68_COLOUR = "#e9995a"
+THERMOCOUPLE_COLOUR = "#24507a"
+CONE_COLOUR = "#2e6b3f"
+TARGET_COLOUR = "#6a6a6a"
+RATE_COLOUR = "#7b6a58"
+FIGURE_SIZE_IN = (7.0, 5.2)
+
+_drawing = threading.Lock()
+
+
+def _to_unit(unit: str):
+    if unit == "C":
+        return lambda t: t
+    if unit == "F":
+        return celsius_to_fahrenheit
+    raise ValueError(f"The chart unit must be 'C' or 'F'; got {unit!r}.")
+
+
+def _figure(points: list[CurvePoint], target_c: float | None, target_label: str | None, unit: str, title: str | None):
+    from matplotlib.figure import Figure
+
+    convert = _to_unit(unit)
+    rate_scale = 1.0 if unit == "C" else 9 / 5
+    figure = Figure(figsize=FIGURE_SIZE_IN, layout="constrained")
+    if title:
+        figure.suptitle(title, fontsize="medium")
+    heat, rate = figure.subplots(2, 1, sharex=True, height_ratios=(3, 1))
+    for axes in (heat, rate):
+        axes.spines[["top", "right"]].set_visible(False)
+        axes.grid(True, color="#dddddd", linewidth=0.6)
+        axes.set_axisbelow(True)
+
+    banded = [p for p in points if p.band95_c is not None and p.band68_c is not None]
+    if banded:
+        hours = [p.hours for p in banded]
+        heat.fill_between(hours, [convert(p.band95_c[0]) for p in banded], [convert(p.band95_c[1]) for p in banded],
+                          color=BAND95_COLOUR, alpha=0.6, linewidth=0, label="95 % band")  # fmt: skip
+        heat.fill_between(hours, [convert(p.band68_c[0]) for p in banded], [convert(p.band68_c[1]) for p in banded],
+                          color=BAND68_COLOUR, alpha=0.6, linewidth=0, label="68 % band")  # fmt: skip
+    hours, estimates_c = estimate_series(points)
+    if hours:
+        heat.plot(hours, [convert(t) for t in estimates_c], color=ESTIMATE_COLOUR, marker="o", markersize=3,
+                  linewidth=1.6, label="estimate from colour")  # fmt: skip
+    ceilings = [p for p in points if p.temperature_c is None and p.upper_bound_c is not None]
+    if ceilings:
+        heat.plot([p.hours for p in ceilings], [convert(p.upper_bound_c) for p in ceilings], linestyle="none",
+                  marker="v", markerfacecolor="none", color=ESTIMATE_COLOUR, label="ceiling only (colour)")  # fmt: skip
+    references = [p for p in points if p.reference_c is not None]
+    if references:
+        heat.plot([p.hours for p in references], [convert(p.reference_c) for p in references], linestyle="none",
+                  marker="D", markersize=5, color=THERMOCOUPLE_COLOUR, label="thermocouple")  # fmt: skip
+    _draw_cones(heat, [p for p in points if p.cone_c is not None], convert)
+    if target_c is not None:
+        heat.axhline(convert(target_c), color=TARGET_COLOUR, linestyle="--", linewidth=1.0, label=target_label or "target")
+
+    heat.set_ylabel(f"temperature (°{unit})")
+    if heat.get_legend_handles_labels()[0]:
+        figure.legend(loc="outside lower center", ncols=3, fontsize="small", frameon=False)
+    else:
+        heat.text(0.5, 0.5, "no readings yet", transform=heat.transAxes, ha="center", va="center", color=TARGET_COLOUR)
+
+    rates = climb_rates_c_per_h(hours, estimates_c)
+    steps = [(h0, h1, r) for h0, h1, r in zip(hours, hours[1:], rates) if r is not None]
+    if steps:
+        rate.bar([(h0 + h1) / 2 for h0, h1, _ in steps], [r * rate_scale for *_, r in steps],
+                 width=[(h1 - h0) * 0.9 for h0, h1, _ in steps], color=RATE_COLOUR)  # fmt: skip
+    rate.axhline(0, color=TARGET_COLOUR, linewidth=0.6)
+    rate.set_ylabel(f"climb (°{unit}/h)")
+    rate.set_xlabel("hours since the firing started")
+    return figure
+
+
+def _draw_cones(axes, cones: list[CurvePoint], convert) -> None:
+    labelled = set()
+    for state, fill in (("bent", CONE_COLOUR), ("standing", "none"), (None, "none")):
+        chosen = [p for p in cones if p.cone_state == state]
+        if not chosen:
+            continue
+        label = {"bent": "cone bent", "standing": "cone standing", None: "cone seen"}[state]
+        axes.plot([p.hours for p in chosen], [convert(p.cone_c) for p in chosen], linestyle="none", marker="^",
+                  markersize=7, color=CONE_COLOUR, markerfacecolor=fill, label=label)  # fmt: skip
+        for p in chosen:
+            if (p.cone, state) not in labelled:
+                labelled.add((p.cone, state))
+                axes.annotate(f"cone {p.cone}", (p.hours, convert(p.cone_c)), textcoords="offset points",
+                              xytext=(4, 6), fontsize="x-small", color=CONE_COLOUR)  # fmt: skip
+
+
+def _render(figure, image_format: str) -> bytes:
+    buffer = io.BytesIO()
+    metadata = {"Date": None} if image_format == "svg" else {}
+    figure.savefig(buffer, format=image_format, dpi=120, metadata=metadata)
+    return buffer.getvalue()
+
+
+def firing_chart_svg(points: list[CurvePoint], target_c=None, target_label=None, unit: str = "C", title=None) -> str:
+    """The curve as an SVG element (no XML prolog), ready to place in a page."""
+    import matplotlib
+
+    with _drawing, matplotlib.rc_context({"svg.fonttype": "none", "svg.hashsalt": "glowtemp-curve"}):
+        text = _render(_figure(points, target_c, target_label, unit, title), "svg").decode("utf-8")
+    return text[text.index("<svg"):]
+
+
+def firing_chart_png(points: list[CurvePoint], target_c=None, target_label=None, unit: str = "C", title=None) -> bytes:
+    """The curve as a PNG image."""
+    with _drawing:
+        return _render(_figure(points, target_c, target_label, unit, title), "png")
+
+
+def draw_firing(log, firing_id: int, unit: str = "C", image_format: str = "svg", title: str | None = None):
+    """The chart of one firing in a :class:`glowtemp.logbook.Logbook`: SVG text or PNG bytes."""
+    firing = log.get_firing(firing_id)
+    table = cone_table(log.data_dir)[0]
+    points = curve_points(firing, log.readings_in(firing_id), table)
+    target_c, target_label = firing_target_c(firing, table)
+    draw = {"svg": firing_chart_svg, "png": firing_chart_png}[image_format]
+    return draw(points, target_c, target_label, unit, title)
