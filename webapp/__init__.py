@@ -1,1 +1,62 @@
-"""The glowtemp web app (Flask)."""
+"""The glowtemp web app: a Flask application factory and one blueprint per area.
+
+Areas: ``measuring`` (the phone page that takes a photo and shows the reading), ``api`` (the
+JSON calls the page and scripts use), ``pages`` (safety notes). Other areas register their own
+blueprint in :func:`create_app`; an area whose blueprint has an ``index`` endpoint listed in
+``NAV_AREAS`` appears in the top bar of ``templates/base.html``.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from flask import Flask, current_app
+
+# (endpoint, label) of the areas shown in the top bar, in order, when they are registered.
+NAV_AREAS = (
+    ("measuring.index", "Measure"),
+    ("firings.index", "Firings"),
+    ("pages.safety", "Safety"),
+)
+
+MAX_UPLOAD_BYTES = 64 * 1024 * 1024  # a 50 MP JPEG is about 25 MB; RAW-sized TIFFs fit too
+
+
+def create_app(config: dict | None = None) -> Flask:
+    """Build the app. ``config`` may set ``DATA_DIR`` (the glowtemp data folder) and Flask keys.
+
+    Without ``DATA_DIR`` the per-user data folder of :func:`glowtemp.datadir.data_dir` is used.
+    """
+    from glowtemp.datadir import data_dir
+
+    app = Flask(__name__)
+    app.config.update(MAX_CONTENT_LENGTH=MAX_UPLOAD_BYTES, DATA_DIR=None)
+    app.config.update(config or {})
+    app.config["DATA_DIR"] = data_dir(app.config["DATA_DIR"])
+
+    from glowtemp.logbook import Logbook
+
+    from . import api, errors, measuring, pages
+    from .photo_cache import PhotoCache
+
+    app.extensions["glowtemp"] = {"logbook": Logbook(app.config["DATA_DIR"]), "photos": PhotoCache()}
+    app.register_blueprint(measuring.blueprint)
+    app.register_blueprint(api.blueprint)
+    app.register_blueprint(pages.blueprint)
+    errors.register(app)
+
+    @app.context_processor
+    def navigation():
+        return {"nav_links": nav_links}
+
+    return app
+
+
+def nav_links() -> list[tuple[str, str]]:
+    """The top-bar areas whose endpoints exist in the running app."""
+    return [(endpoint, label) for endpoint, label in NAV_AREAS if endpoint in current_app.view_functions]
+
+
+def data_folder() -> Path:
+    """The running app's data folder."""
+    return current_app.config["DATA_DIR"]

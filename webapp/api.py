@@ -1,0 +1,177 @@
+"""The JSON API used by the measuring page and by scripts.
+
+- ``POST /api/readings``: multipart ``photo`` (a JPEG, PNG or TIFF file), optional ``region``
+  (``X,Y,W,H`` or ``circle:CX,CY,R``) or ``circle`` (``CX,CY,R``).
+  Measures, stores the photo and the reading in the firing log, answers 201 with the reading's
+  JSON form (as ``glowtemp measure --json``) plus ``id``, ``image`` {width, height} and
+  ``preview_url``.
+- ``POST /api/readings/<id>/region``: the same fields as JSON or a form, without ``photo``;
+  measures the stored photo again and replaces the stored result.
+- ``GET /api/readings/<id>/preview``: the stored photo, upright and reduced, as a JPEG.
+- ``GET /api/scale``: blackbody colours along a temperature scale, for painting.
+
+Errors answer ``{"error": message}`` with a 4xx status; nothing is stored when a request fails.
+"""
+
+from __future__ import annotations
+
+import io
+from datetime import datetime, timezone
+
+from flask import Blueprint, current_app, jsonify, request, send_file, url_for
+
+from .errors import ApiError
+
+blueprint = Blueprint("api", __name__, url_prefix="/api")
+
+SUFFIXES = {"JPEG": ".jpg", "PNG": ".png", "TIFF": ".tif"}
+PREVIEW_LONG_SIDE_PX = 1600
+LONGEST_PHOTO_NAME = 120
+SCALE_FROM_C, SCALE_TO_C, SCALE_STEP_C = 400, 1600, 25
+TICKS_C = (400, 600, 800, 1000, 1200, 1400, 1600)
+TICKS_F = (800, 1200, 1600, 2000, 2400, 2800)
+
+
+def _services():
+    return current_app.extensions["glowtemp"]
+
+
+def _fields() -> dict:
+    """The request's text fields, from a JSON body or a form."""
+    if request.is_json:
+        body = request.get_json(silent=True)
+        if not isinstance(body, dict):
+            raise ApiError("The request body must be a JSON object such as {\"region\": \"10,10,50,50\"}.")
+        return {key: "" if value is None else str(value) for key, value in body.items()}
+    return request.form.to_dict()
+
+
+def _region(fields: dict):
+    """The region asked for, or None to let the glow finder choose."""
+    from glowtemp.region import RegionError, parse_circle, parse_region
+
+    region, circle = fields.get("region", "").strip(), fields.get("circle", "").strip()
+    if region and circle:
+        raise ApiError("Send either a region or a circle, not both.")
+    try:
+        if circle:
+            return parse_circle(circle)
+        return parse_region(region) if region else None
+    except RegionError as error:
+        raise ApiError(str(error)) from None
+
+
+def _measure(photo, region, photo_name: str) -> dict:
+    from glowtemp.reading import measure
+    from glowtemp.region import RegionError
+
+    try:
+        return measure(photo, region, photo_name=photo_name).to_dict()
+    except RegionError as error:
+        if region is None:
+            raise ApiError(str(error), 422, draw_region=True) from None
+        raise ApiError(str(error)) from None
+
+
+def _answer(result: dict, reading_id: int, photo, status: int):
+    body = {
+        **result,
+        "id": reading_id,
+        "image": {"width": photo.width, "height": photo.height},
+        "preview_url": url_for("api.preview", reading_id=reading_id),
+    }
+    return jsonify(body), status
+
+
+def _photo_name(upload) -> str:
+    name = (upload.filename or "").strip() or "photo"
+    return name[-LONGEST_PHOTO_NAME:]
+
+
+@blueprint.post("/readings")
+def create_reading():
+    from glowtemp.photo import PhotoError, load_photo
+
+    upload = request.files.get("photo")
+    if upload is None:
+        raise ApiError("Send the photo as a file in a form field named 'photo'.")
+    data = upload.read()
+    if not data:
+        raise ApiError("The photo file is empty; take or choose the photo again.")
+    fields = _fields()
+    region = _region(fields)
+    try:
+        photo = load_photo(data)
+    except PhotoError as error:
+        raise ApiError(str(error)) from None
+    name = _photo_name(upload)
+    result = _measure(photo, region, name)
+    services = _services()
+    logbook = services["logbook"]
+    key = logbook.store_photo(data, SUFFIXES[photo.format])
+    taken_at = photo.metadata.taken_at or datetime.now(timezone.utc)
+    reading_id = logbook.add_reading(photo_key=key, photo_name=name, result=result, taken_at=taken_at)
+    services["photos"].put(key, photo)
+    return _answer(result, reading_id, photo, 201)
+
+
+def _stored(reading_id: int):
+    """The stored reading and its decoded photo; 404 when there is no such reading."""
+    from glowtemp.photo import load_photo
+
+    services = _services()
+    stored = services["logbook"].get_reading(reading_id)
+    if stored is None:
+        raise ApiError(f"There is no reading number {reading_id}.", 404)
+    key = stored["photo_key"]
+    photo = services["photos"].get(key)
+    if photo is None:
+        photo = load_photo(services["logbook"].photo_path(key))
+        services["photos"].put(key, photo)
+    return stored, photo
+
+
+@blueprint.post("/readings/<int:reading_id>/region")
+def measure_region(reading_id: int):
+    fields = _fields()
+    region = _region(fields)
+    if region is None:
+        raise ApiError("Send the new region as 'region' (X,Y,W,H or circle:CX,CY,R) or 'circle' (CX,CY,R).")
+    stored, photo = _stored(reading_id)
+    result = _measure(photo, region, stored["photo_name"])
+    _services()["logbook"].update_reading_result(reading_id, result)
+    return _answer(result, reading_id, photo, 200)
+
+
+@blueprint.get("/readings/<int:reading_id>/preview")
+def preview(reading_id: int):
+    import numpy as np
+    from PIL import Image
+
+    _, photo = _stored(reading_id)
+    codes = photo.codes if photo.codes.dtype == np.uint8 else (photo.codes >> 8).astype(np.uint8)
+    image = Image.fromarray(codes)
+    image.thumbnail((PREVIEW_LONG_SIDE_PX, PREVIEW_LONG_SIDE_PX))
+    out = io.BytesIO()
+    image.save(out, "JPEG", quality=85)
+    out.seek(0)
+    return send_file(out, mimetype="image/jpeg", max_age=3600)
+
+
+@blueprint.get("/scale")
+def scale():
+    """Blackbody display colours from the core, every 25 °C, with tick marks in °C and °F."""
+    from glowtemp.locus import blackbody_swatch_hex
+    from glowtemp.scales import celsius_to_kelvin, fahrenheit_to_celsius
+
+    stops = [
+        {"temperature_c": t, "hex": blackbody_swatch_hex(celsius_to_kelvin(t))}
+        for t in range(SCALE_FROM_C, SCALE_TO_C + 1, SCALE_STEP_C)
+    ]
+    ticks = {
+        "c": [{"temperature_c": t, "label": t} for t in TICKS_C],
+        "f": [{"temperature_c": round(fahrenheit_to_celsius(t), 1), "label": t} for t in TICKS_F],
+    }
+    response = jsonify(from_c=SCALE_FROM_C, to_c=SCALE_TO_C, stops=stops, ticks=ticks)
+    response.cache_control.max_age = 86400
+    return response

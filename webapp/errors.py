@@ -1,0 +1,56 @@
+"""Errors in plain words: JSON ``{"error": message}`` under /api/, a short page elsewhere.
+
+Nothing a visitor sees carries a traceback; unexpected failures are logged on the server.
+"""
+
+from __future__ import annotations
+
+from flask import jsonify, render_template, request
+from werkzeug.exceptions import HTTPException, InternalServerError
+
+PLAIN_WORDS = {
+    400: "The request could not be understood.",
+    404: "There is nothing at this address.",
+    405: "This address does not accept that kind of request.",
+    413: "The upload is too large.",
+    500: "Something went wrong on the server; the photo was not measured.",
+}
+
+
+class ApiError(Exception):
+    """A request the API refuses, with an HTTP status and a message for people."""
+
+    def __init__(self, message: str, status: int = 400, **details):
+        super().__init__(message)
+        self.message = message
+        self.status = status
+        self.details = details  # extra JSON keys, e.g. draw_region=True
+
+
+def _wants_json() -> bool:
+    return request.path.startswith("/api/")
+
+
+def _reply(message: str, status: int, **details):
+    if _wants_json():
+        return jsonify(error=message, **details), status
+    return render_template("error.html", message=message, status=status), status
+
+
+def register(app) -> None:
+    @app.errorhandler(ApiError)
+    def api_error(error: ApiError):
+        return _reply(error.message, error.status, **error.details)
+
+    @app.errorhandler(HTTPException)
+    def http_error(error: HTTPException):
+        status = error.code or 500
+        if status == 413:
+            limit_mb = app.config["MAX_CONTENT_LENGTH"] // (1024 * 1024)
+            return _reply(f"The upload is larger than {limit_mb} MB; send a smaller photo.", 413)
+        return _reply(PLAIN_WORDS.get(status, error.name + "."), status)
+
+    @app.errorhandler(Exception)
+    def unexpected(error: Exception):
+        app.logger.exception("unexpected error on %s", request.path)
+        return _reply(PLAIN_WORDS[500], InternalServerError.code)

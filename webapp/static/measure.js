@@ -1,0 +1,202 @@
+// The measuring page: send a photo, show the reading, let the user move the measured area.
+import { RegionEditor } from "./region.js";
+import { paintScale, showReading } from "./result.js";
+
+const $ = (id) => document.getElementById(id);
+const UNIT_KEY = "glowtemp.unit";
+
+const state = {
+  unit: remembered(UNIT_KEY, "c") === "f" ? "f" : "c",
+  reading: null,     // the latest reading (with its id)
+  file: null,        // the photo file, kept for a new upload when no area was found
+  photoUrl: null,
+  scale: null,
+  sequence: 0,       // answers to older region requests are dropped
+};
+
+function remembered(key, fallback) {
+  try { return localStorage.getItem(key) || fallback; } catch (e) { return fallback; }
+}
+
+function remember(key, value) {
+  try { localStorage.setItem(key, value); } catch (e) { /* private mode: not remembered */ }
+}
+
+const editor = new RegionEditor($("overlay"), (text) => remeasure(text));
+
+function showProblem(message) {
+  $("problem").textContent = message;
+  $("problem").hidden = !message;
+}
+
+function showProgress(text, percent) {
+  $("progress").hidden = text === null;
+  if (text === null) return;
+  $("progress-text").textContent = text;
+  const bar = $("progress-bar");
+  if (percent === null) bar.removeAttribute("value"); else bar.value = percent;
+}
+
+function choosePhotoKind(kind) {
+  for (const chip of document.querySelectorAll("[data-shape]")) {
+    chip.setAttribute("aria-pressed", String(chip.dataset.shape === kind));
+  }
+}
+
+// Send form data with upload progress (fetch cannot report it); resolves to {status, body}.
+function send(url, form, onProgress) {
+  return new Promise((resolve) => {
+    const request = new XMLHttpRequest();
+    request.open("POST", url);
+    request.responseType = "json";
+    request.upload.onprogress = (e) => { if (e.lengthComputable) onProgress(e.loaded / e.total); };
+    request.upload.onload = () => onProgress(1);
+    request.onload = () => resolve({ status: request.status, body: request.response });
+    request.onerror = () => resolve({ status: 0, body: { error: "The server could not be reached. Is glowtemp still running?" } });
+    request.send(form);
+  });
+}
+
+function profileChoice() {
+  return $("profile-select").value;
+}
+
+async function upload(file, regionText) {
+  state.file = file;
+  showProblem("");
+  $("result").hidden = true;
+  $("measure-drawn").hidden = true;
+  showProgress("Sending the photo… 0 %", 0);
+  const form = new FormData();
+  form.append("photo", file, file.name || "photo.jpg");
+  if (regionText) form.append("region", regionText);
+  if (profileChoice()) form.append("profile", profileChoice());
+  const answer = await send("/api/readings", form, (share) => {
+    if (share < 1) showProgress(`Sending the photo… ${Math.round(share * 100)} %`, share * 100);
+    else showProgress("Reading the colour of the glow…", null);
+  });
+  showProgress(null);
+  if (answer.status === 201) {
+    showPhoto(file, answer.body);
+    showResult(answer.body);
+    return;
+  }
+  const body = answer.body || {};
+  showProblem(body.error || `The server answered with an error (${answer.status}).`);
+  if (body.draw_region) offerDrawing(file);
+}
+
+function showPhoto(file, reading) {
+  if (state.photoUrl) URL.revokeObjectURL(state.photoUrl);
+  state.photoUrl = URL.createObjectURL(file);
+  const img = $("photo");
+  img.onerror = () => { if (reading.id) img.src = reading.preview_url; img.onerror = null; };
+  img.src = state.photoUrl;
+  editor.setPhoto(reading.image.width, reading.image.height);
+  $("photo-section").hidden = false;
+}
+
+// No glowing area stood out: show the photo with a circle to place by hand, then send again.
+function offerDrawing(file) {
+  if (state.photoUrl) URL.revokeObjectURL(state.photoUrl);
+  state.photoUrl = URL.createObjectURL(file);
+  const img = $("photo");
+  img.onload = () => {
+    img.onload = null;
+    const w = img.naturalWidth, h = img.naturalHeight;
+    editor.setPhoto(w, h);
+    editor.setRegion({ kind: "circle", cx: Math.round(w / 2), cy: Math.round(h / 2), radius: Math.round(Math.min(w, h) / 6) });
+    choosePhotoKind("circle");
+    state.reading = null;
+    $("photo-section").hidden = false;
+    $("measure-drawn").hidden = false;
+    $("region-status").textContent = "Place the outline on the glow, then measure.";
+  };
+  img.onerror = () => showProblem($("problem").textContent + " This browser cannot show the photo either.");
+  img.src = state.photoUrl;
+}
+
+function showResult(reading) {
+  state.reading = reading;
+  editor.setRegion(reading.region);
+  choosePhotoKind(reading.region.kind);
+  showReading(reading, state.unit);
+  $("result").hidden = false;
+  $("region-status").textContent = "";
+  $("capture").hidden = true;
+  $("result").scrollIntoView({ block: "start" });
+}
+
+async function remeasure(regionText) {
+  if (!state.reading) return;  // no stored photo yet: the "Measure this area" button sends it
+  const sequence = ++state.sequence;
+  $("region-status").textContent = "Measuring this area…";
+  const response = await fetch(`/api/readings/${state.reading.id}/region`, {
+    method: "POST",
+    headers: { "Content-Type": "application/json" },
+    body: JSON.stringify({ region: regionText, profile: profileChoice() }),
+  }).catch(() => null);
+  if (sequence !== state.sequence) return;
+  const body = response ? await response.json().catch(() => ({})) : {};
+  if (!response || !response.ok) {
+    $("region-status").textContent = body.error || "The server could not be reached.";
+    return;
+  }
+  state.reading = body;
+  showReading(body, state.unit);
+  $("region-status").textContent = "Measured again.";
+}
+
+async function loadScale() {
+  const response = await fetch("/api/scale");
+  state.scale = await response.json();
+  paintScale(state.scale, state.unit);
+}
+
+async function loadProfiles() {
+  const response = await fetch("/api/profiles").catch(() => null);
+  if (!response || !response.ok) return;
+  const { profiles } = await response.json();
+  const select = $("profile-select");
+  for (const profile of profiles) {
+    const option = document.createElement("option");
+    option.value = profile.name;
+    option.textContent = profile.label;
+    select.append(option);
+  }
+  $("profile-field").hidden = profiles.length === 0;
+}
+
+function setUnit(unit) {
+  state.unit = unit;
+  remember(UNIT_KEY, unit);
+  if (state.scale) paintScale(state.scale, unit);
+  if (state.reading) showReading(state.reading, unit);
+}
+
+for (const input of [$("camera-input"), $("file-input")]) {
+  input.addEventListener("change", () => {
+    if (input.files.length) upload(input.files[0]);
+    input.value = "";
+  });
+}
+for (const chip of document.querySelectorAll("[data-unit]")) {
+  chip.addEventListener("click", () => setUnit(chip.dataset.unit));
+}
+for (const chip of document.querySelectorAll("[data-shape]")) {
+  chip.addEventListener("click", () => { choosePhotoKind(chip.dataset.shape); editor.setKind(chip.dataset.shape); });
+}
+$("measure-drawn").addEventListener("click", () => upload(state.file, editor.text()));
+$("profile-select").addEventListener("change", () => { if (state.reading) remeasure(editor.text()); });
+$("again").addEventListener("click", () => {
+  $("capture").hidden = false;
+  $("result").hidden = true;
+  $("photo-section").hidden = true;
+  showProblem("");
+  state.reading = null;
+  window.scrollTo(0, 0);
+  $("camera-input").focus();
+});
+
+loadScale();
+loadProfiles();
