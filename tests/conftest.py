@@ -1,0 +1,126 @@
+"""Shared fixtures for the web tests: the app, its test client, test photos, a live server
+and a headless Chromium page.
+
+The browser fixtures drive Debian's ``chromium`` through Playwright (never a downloaded
+browser). When chromium is missing they fail with a message saying how to install it: browser
+tests never skip.
+"""
+
+from __future__ import annotations
+
+import shutil
+import threading
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+CHROMIUM = "/usr/bin/chromium"
+PHONE_VIEWPORT = {"width": 390, "height": 844}
+CHROMIUM_ARGS = [
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+    "--no-first-run",
+]
+ARTIFACTS = Path(__file__).resolve().parent.parent / "test-artifacts"
+DEMO_IMAGES = Path(__file__).resolve().parent.parent / "demo_images"
+
+# Two glowing halves of a rendered photo (ideal CIE observer camera, daylight white balance):
+# 900 °C on the left, 1200 °C on the right (invented test scene).
+LEFT_HALF_C, RIGHT_HALF_C = 900.0, 1200.0
+TWO_HALVES_SIZE = (320, 240)
+
+
+@pytest.fixture(scope="session")
+def two_halves_jpeg() -> bytes:
+    """A small JPEG whose left half glows at 900 °C and right half at 1200 °C."""
+    from glowtemp.scales import celsius_to_kelvin
+    from glowtemp.synthetic import encode_jpeg, render_photo
+    from glowtemp.synthetic_camera import ideal_camera
+
+    left_k, right_k = celsius_to_kelvin(LEFT_HALF_C), celsius_to_kelvin(RIGHT_HALF_C)
+    rendered = render_photo(
+        lambda x, y: np.where(x < 0.5, left_k, right_k),
+        camera=ideal_camera(),
+        scene="uniform",
+        size=TWO_HALVES_SIZE,
+    )
+    return encode_jpeg(rendered)
+
+
+@pytest.fixture(scope="session")
+def dark_jpeg() -> bytes:
+    """A plain dark-grey JPEG with nothing glowing in it."""
+    import io
+
+    from PIL import Image
+
+    out = io.BytesIO()
+    Image.new("RGB", (64, 48), (30, 30, 30)).save(out, "JPEG")
+    return out.getvalue()
+
+
+@pytest.fixture
+def web_app(tmp_path):
+    from glowtemp.web import create_app
+
+    return create_app({"DATA_DIR": tmp_path / "data", "TESTING": True})
+
+
+@pytest.fixture
+def web_client(web_app):
+    return web_app.test_client()
+
+
+@pytest.fixture(scope="session")
+def live_server(tmp_path_factory):
+    """The app on a real waitress server on a free port of 127.0.0.1, in a thread; yields its URL."""
+    from waitress.server import create_server
+
+    from glowtemp.web import create_app
+
+    app = create_app({"DATA_DIR": tmp_path_factory.mktemp("live-data")})
+    server = create_server(app, host="127.0.0.1", port=0, threads=4)
+    thread = threading.Thread(target=server.run, daemon=True)
+    thread.start()
+    yield f"http://127.0.0.1:{server.effective_port}"
+    server.close()
+    thread.join(timeout=5)
+
+
+@pytest.fixture(scope="session")
+def chromium_browser():
+    """Headless Debian chromium (Playwright gives each launch a fresh, temporary profile)."""
+    if shutil.which("chromium") is None or not Path(CHROMIUM).exists():
+        pytest.fail(
+            f"The browser tests need Debian's chromium at {CHROMIUM}: run `apt-get install -y chromium`.",
+            pytrace=False,
+        )
+    from playwright.sync_api import sync_playwright
+
+    with sync_playwright() as playwright:
+        browser = playwright.chromium.launch(executable_path=CHROMIUM, headless=True, args=CHROMIUM_ARGS)
+        yield browser
+        browser.close()
+
+
+@pytest.fixture
+def browser_page(chromium_browser):
+    """A phone-sized page in its own context (empty local storage); JavaScript errors fail the test."""
+    context = chromium_browser.new_context(viewport=PHONE_VIEWPORT, device_scale_factor=2, has_touch=True)
+    page = context.new_page()
+    errors = []
+    page.on("pageerror", lambda error: errors.append(str(error)))
+    yield page
+    context.close()
+    assert not errors, f"JavaScript errors on the page: {errors}"
+
+
+@pytest.fixture(scope="session")
+def artifacts() -> Path:
+    """Where screenshots go (git-ignored)."""
+    ARTIFACTS.mkdir(exist_ok=True)
+    return ARTIFACTS
