@@ -101,7 +101,6 @@ class IccProfile:
 
     description: str
     version: str
-    device_class: str
     rgb_space: RGBSpace
     curves: tuple  # three ToneCurve, red, green, blue
 
@@ -255,7 +254,6 @@ def parse_icc_profile(data: bytes) -> IccProfile:
     return IccProfile(
         description=description,
         version=version,
-        device_class=data[12:16].decode("latin-1").strip(),
         rgb_space=_identify_space(rgb_to_xyz, description),
         curves=tuple(_read_curve(tags[sig]) for sig in (b"rTRC", b"gTRC", b"bTRC")),
     )

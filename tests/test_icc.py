@@ -79,15 +79,17 @@ def test_conversion_to_srgb_agrees_with_littlecms(space, transfer, version):
     assert np.abs(ours - np.asarray(reference, dtype=int)).max() <= 1
 
 
-def test_unknown_space_keeps_the_profile_primaries_and_description():
-    data = build_matrix_profile(BT2020, "srgb", description="Wide test space")
-    space = parse_icc_profile(data).rgb_space
-    assert space not in (SRGB, DISPLAY_P3, ADOBE_RGB)
-    assert space.name == "Wide test space"
-    # ITU-R BT.2020 primaries and D65 white, as tabulated by colour-science
-    bt2020 = colour.RGB_COLOURSPACES["ITU-R BT.2020"]
-    np.testing.assert_allclose(space.primaries_xy, bt2020.primaries, atol=1e-4)
-    np.testing.assert_allclose(space.white_xy, bt2020.whitepoint, atol=1e-4)
+@pytest.mark.parametrize("reference", ["ITU-R BT.2020", "DCI-P3"])
+def test_unknown_space_keeps_the_profile_primaries_white_and_description(reference):
+    # primaries and white as tabulated by colour-science (ITU-R BT.2020; SMPTE RP 431-2 DCI-P3,
+    # whose white differs from Display P3's D65, so it must not be taken for Display P3)
+    known = colour.RGB_COLOURSPACES[reference]
+    space = RGBSpace(reference, tuple(map(tuple, known.primaries)), tuple(known.whitepoint))
+    read = parse_icc_profile(build_matrix_profile(space, "srgb", description="Wide test space"))
+    assert read.rgb_space not in (SRGB, DISPLAY_P3, ADOBE_RGB)
+    assert read.rgb_space.name == "Wide test space"
+    np.testing.assert_allclose(read.rgb_space.primaries_xy, known.primaries, atol=1e-4)
+    np.testing.assert_allclose(read.rgb_space.white_xy, known.whitepoint, atol=1e-4)
 
 
 def test_d50_white_space_keeps_its_white():
