@@ -86,6 +86,15 @@ def ambiguous() -> Advice:
     )
 
 
+def wide_range() -> Advice:
+    return Advice(
+        "wide-range",
+        "The photo narrows the heat only to a wide range, so no single temperature is given.",
+        "Lock the white balance to daylight, lower the exposure until the glow shows colour, and "
+        "fill the region with glow; a camera profile narrows it further.",
+    )
+
+
 def ambient_light() -> Advice:
     return Advice(
         "ambient-light",

@@ -110,13 +110,28 @@ def describe(result: dict) -> str:
             f"{name}: {result['temperature_c']} °C, likely {low68}-{high68} °C (68 %), "
             f"{low95}-{high95} °C (95 %), {result['glow_name']}"
         )
+    elif result["status"] == "wide":
+        low95, high95 = result["interval_95_c"]
+        text = f"{name}: somewhere in {low95}-{high95} °C (95 %), too wide to name one heat"
     elif result["upper_bound_c"] is not None:
         text = f"{name}: below about {result['upper_bound_c']} °C (95 %), colour gives only a ceiling"
     else:
-        text = f"{name}: no estimate"
+        text = f"{name}: no estimate ({result['status']})"
     codes = [w["code"] for w in result["warnings"]]
     text += f"; {result['pixels_used']} pixels used"
     return text + (f"; warnings: {', '.join(codes)}" if codes else "")
+
+
+def _serve(args) -> int:
+    from .datadir import data_dir
+    from .web.server import serve
+
+    try:
+        serve(args.host, args.port, data_dir(args.data), args.demo)
+    except OSError as error:
+        print(f"glowtemp: cannot serve on {args.host}:{args.port}: {error.strerror or error}", file=sys.stderr)
+        return 1
+    return 0
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -150,6 +165,13 @@ def build_parser() -> argparse.ArgumentParser:
     for sub in (fit, show, delete, actions.choices["list"]):
         sub.add_argument("--data", metavar="DIR", help="data folder (profiles, firing log)")
     profile.set_defaults(run=_profile_command)
+
+    serve = commands.add_parser("serve", help="run the web page for phones (waitress)")
+    serve.add_argument("--host", default="127.0.0.1", help="address to listen on (0.0.0.0: the whole LAN)")
+    serve.add_argument("--port", type=int, default=8000, help="port to listen on (0: any free port)")
+    serve.add_argument("--data", metavar="DIR", help="data folder (profiles, firing log)")
+    serve.add_argument("--demo", metavar="DIR", help="add the demo photos in DIR to the firing log first")
+    serve.set_defaults(run=_serve)
     return parser
 
 

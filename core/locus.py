@@ -84,25 +84,31 @@ def clipped_linear_rgb(xyz, space: RGBSpace = SRGB):
     return np.clip(rgb, 0.0, None)
 
 
-@lru_cache(maxsize=8)
-def _locus_ratios(space: RGBSpace):
+@lru_cache(maxsize=16)
+def _locus_ratios(space: RGBSpace, clipped: bool):
     table = blackbody_table()
-    rgb = clipped_linear_rgb(table.xyz, space)
+    rgb = table.xyz @ space.xyz_to_rgb.T
+    if clipped:
+        rgb = np.clip(rgb, 0.0, None)
     ratios = rgb[:, 1:] / rgb[:, :1]
     ratios.setflags(write=False)
     return ratios
 
 
-def locus_ratios(space: RGBSpace = SRGB) -> np.ndarray:
-    """Green/red and blue/red of clipped linear RGB along the table grid, shape (n, 2).
+def locus_ratios(space: RGBSpace = SRGB, clipped: bool = True) -> np.ndarray:
+    """Green/red and blue/red of linear RGB along the table grid, shape (n, 2).
 
-    Red is the strongest channel of every blackbody below about 6000 K, so it is the reference.
+    With ``clipped`` (the default) negative components are set to zero first, as a camera
+    records them; without it the ratios go negative where the colour is out of gamut. Red is
+    the strongest channel of every blackbody below about 6000 K, so it is the reference.
 
     >>> g_over_r = locus_ratios()[:, 0]
     >>> bool(0.005 < g_over_r[300] < 0.02)  # 1000 K
     True
+    >>> bool(locus_ratios(clipped=False)[200, 0] < 0)  # 900 K: green out of the sRGB gamut
+    True
     """
-    return _locus_ratios(space)
+    return _locus_ratios(space, clipped)
 
 
 def blackbody_swatch_hex(temperature_k, space: RGBSpace = SRGB) -> str:
@@ -111,7 +117,7 @@ def blackbody_swatch_hex(temperature_k, space: RGBSpace = SRGB) -> str:
     A display swatch, gamut-clipped as a camera would clip it (IEC 61966-2-1 encoding).
 
     >>> blackbody_swatch_hex(1273.15)
-    '#ff7800'
+    '#ff4e00'
     """
     rgb = clipped_linear_rgb(blackbody_xyz(temperature_k)[0], space)
     rgb = rgb / rgb.max()

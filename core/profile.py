@@ -1,33 +1,35 @@
-"""Camera profiles: a camera's own colour-ratio law, learnt from photos paired with trusted values.
+"""Camera profiles: a camera's own colour-ratio map, learnt from photos paired with trusted values.
 
-The model is the calibration law of a two-colour (ratio) pyrometer. Under Wien's approximation
-the ratio of two colour channels of a grey body obeys
+A camera records glow's green/red not as the ideal colorimetric camera would, because its
+spectral sensitivities and colour matrix differ from the CIE observer. For a colour whose blue
+is negligible (all glow below about 1900 K in sRGB), a small error in the colour matrix turns
+the recorded green/red into an affine function of the ideal one:
 
-    ln(G/R) = p + q / T
+    g_recorded = offset + gain * g_ideal(T)          (then clipped at zero)
 
-where q depends on the channels' effective wavelengths and p on their relative gains; both
-absorb a camera's spectral sensitivities, colour matrix and (to first order) its tone curve.
-The profile fits p and q by weighted least squares to pairs of (observed ln G/R, trusted T),
-with the trusted value's uncertainty carried by the effective-variance method. It was kept over
-the correction ``1/T_true = a + b / T_estimate`` on the uncalibrated estimate because it works
-from the observed ratio itself: it stays usable where the ideal camera would record no green at
-all (sRGB below ~960 K), where the estimate-based correction has nothing to correct, and it
-generalised better across the 650-1350 °C range in ``bench/accuracy.py`` (see the note there).
+where ``g_ideal`` is the unclipped green/red of a blackbody in the photo's RGB space
+(:func:`glowtemp.locus.locus_ratios`). A profile fits ``offset`` and ``gain`` by weighted least
+squares to pairs of (recorded green/red, trusted temperature); the trusted value's uncertainty
+enters through the slope of the model (the effective-variance method). The estimator then
+uses the fitted map, its covariance and its scatter as the camera term
+(:class:`glowtemp.estimate.CameraTerm`), so bands widen by themselves away from the pairs.
 
-- One pair fixes p only; q is taken from the ideal colorimetric camera in the photo's colour
-  space, with a prior spread sized on the benchmark cameras.
-- Two pairs fix p and q; the scatter about the law is then taken as a prior value.
-- Three or more pairs also measure the scatter (reduced chi-square), which scales the bands.
+Why this model: rendered through colour-science's two NPL-measured cameras and parametric
+ones, recorded green/red came out as the ideal value plus a near-constant offset (with a gain
+near 1), at every temperature. Two alternatives were tried in ``bench/accuracy.py``: the
+correction ``1/T_true = a + b / T_estimate`` on the uncalibrated estimate, and the ratio-
+pyrometer law ``ln(G/R) = p + q / T`` (Wien approximation). Both assume a shape the offset
+breaks; the affine map generalised best, inside and outside the pairs' span.
 
-A reading's band combines the photo's own ratio uncertainty, the fit covariance and the scatter
-(delta method in 1/T); outside the span of the pairs it widens through the covariance and the
-reading is flagged.
+- One pair fixes the offset only; the gain is 1 with a prior spread sized on the benchmark cameras.
+- Two pairs fix offset and gain; the scatter about the map is a prior value.
+- Three or more pairs also measure the scatter from the residuals.
 
 References
 ----------
-- D. P. DeWitt and G. D. Nutter (eds.), Theory and Practice of Radiation Thermometry, Wiley
-  (1988), ch. 8 (ratio pyrometers, Wien approximation).
 - J. Orear, "Least squares when both variables have uncertainties", Am. J. Phys. 50 (1982) 912.
+- G. D. Finlayson and M. S. Drew, "Constrained least-squares regression in color spaces",
+  J. Electronic Imaging 6 (1997) 484-493 (camera colour matrices as linear maps).
 - JCGM 100:2008 (GUM), 4.3.7 (rectangular distribution of a tolerance) and 5.1.2 (propagation).
 - IEC 60584-1:2013, type K class 2 tolerance: +/-2.5 °C or +/-0.0075 |t|.
 """
@@ -38,18 +40,17 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .colourspaces import RGBSpace
-from .estimate import TemperatureEstimate, observed_ratios
-from .locus import blackbody_table, locus_ratios
+from .colourspaces import KNOWN_SPACES, RGBSpace
+from .estimate import CameraTerm, observed_ratios
+from .locus import TABLE_MIN_K, blackbody_table, locus_ratios
 from .scales import celsius_to_kelvin
 
 PROFILE_FORMAT = "glowtemp-camera-profile"
 PROFILE_VERSION = 1
-PRIOR_SCATTER_LN_RATIO = 0.03  # scatter about the law when too few pairs measure it
-PRIOR_SLOPE_SPREAD = 0.08  # relative spread of q between cameras, for one-pair profiles
-SLOPE_FIT_RANGE_K = (1000.0, 1700.0)
+PRIOR_GAIN_SIGMA = 0.1  # gain spread between cameras, for one-pair profiles
+PRIOR_SCATTER = 0.003  # green/red scatter about the map when too few pairs measure it
 SPAN_MARGIN_C = 25.0  # readings this far outside the pairs' span are flagged
-MIN_RATIO_SIGNAL = 3.0  # an observed ratio below this many standard errors carries no law
+MIN_RATIO_SIGNAL = 3.0  # a recorded green/red below this many standard errors carries no map
 
 
 class ProfileError(ValueError):
@@ -61,22 +62,22 @@ def thermocouple_sigma_c(temperature_c: float) -> float:
     return max(2.5, 0.0075 * abs(temperature_c)) / np.sqrt(3.0)
 
 
-def ideal_slope(space: RGBSpace) -> float:
-    """q of the ideal colorimetric camera in ``space``: slope of ln(G/R) against 1/T, 1000-1700 K."""
+def ideal_green_ratio(temperature_k, space: RGBSpace):
+    """Unclipped green/red of a blackbody in ``space`` and its slope d(g)/dT per kelvin."""
     grid = blackbody_table().temperature_k
-    ratios = locus_ratios(space)[:, 0]
-    use = (grid >= SLOPE_FIT_RANGE_K[0]) & (grid <= SLOPE_FIT_RANGE_K[1]) & (ratios > 0)
-    slope, _ = np.polyfit(1.0 / grid[use], np.log(ratios[use]), 1)
-    return float(slope)
+    ideal = locus_ratios(space, clipped=False)[:, 0]
+    value = np.interp(temperature_k, grid, ideal)
+    slope = np.interp(temperature_k, grid, np.gradient(ideal, grid))
+    return value, slope
 
 
 @dataclass(frozen=True)
 class Pair:
-    """One calibration pair: the photo's observed log ratio and the trusted temperature."""
+    """One calibration pair: the photo's recorded green/red and the trusted temperature."""
 
     photo: str
-    log_ratio: float
-    log_ratio_sigma: float
+    green_ratio: float
+    green_ratio_sigma: float
     reference_c: float
     reference_sigma_c: float
     reference_kind: str = "thermocouple"  # or "cone"
@@ -84,101 +85,77 @@ class Pair:
     region: str | None = None
 
     def to_dict(self) -> dict:
-        return {k: v for k, v in self.__dict__.items()}
+        return dict(self.__dict__)
 
 
 @dataclass(frozen=True)
-class RatioLaw:
-    """The fitted law ln(G/R) = p + q / T with covariance and scatter."""
+class RatioMap:
+    """The fitted map g_recorded = offset + gain * g_ideal, with covariance of (offset, gain)."""
 
-    p: float
-    q: float
+    offset: float
+    gain: float
     covariance: np.ndarray
     scatter: float
     scatter_measured: bool
 
-    def log_ratio(self, temperature_k):
-        return self.p + self.q / np.asarray(temperature_k, dtype=float)
+    def camera_term(self) -> CameraTerm:
+        return CameraTerm(
+            ratio_sigma=0.0,
+            green_floor=self.scatter,
+            green_gain=self.gain,
+            green_offset=self.offset,
+            offset_gain_covariance=tuple(map(tuple, self.covariance)),
+        )
 
 
-def pair_log_ratio(mean_linear, standard_error) -> tuple[float, float]:
-    """ln(G/R) of a region and its standard error; raises when green carries no signal."""
+def pair_green_ratio(mean_linear, standard_error) -> tuple[float, float]:
+    """Recorded green/red of a region and its standard error; raises when green carries no signal."""
     ratios, errors = observed_ratios(mean_linear, standard_error)
-    if not np.isfinite(ratios[0]) or ratios[0] < MIN_RATIO_SIGNAL * errors[0] or ratios[0] <= 0:
+    if not np.isfinite(ratios[0]) or ratios[0] <= MIN_RATIO_SIGNAL * errors[0]:
         raise ProfileError(
             "the photo's green channel is too weak to carry the colour ratio (glow too dim, "
-            "too cool for this colour space, or exposure too low)"
+            "too cool for this colour setting, or exposure too low)"
         )
-    return float(np.log(ratios[0])), float(errors[0] / ratios[0])
+    return float(ratios[0]), float(errors[0])
 
 
-def fit_ratio_law(pairs: list[Pair], space: RGBSpace) -> RatioLaw:
-    """Weighted least-squares fit of ln(G/R) = p + q / T (Orear's effective variance for sigma_T)."""
+def fit_ratio_map(pairs: list[Pair], space: RGBSpace) -> RatioMap:
+    """Weighted least squares of g_recorded on g_ideal(T_trusted), Orear's effective variance."""
     if not pairs:
         raise ProfileError("A profile needs at least one photo paired with a trusted reading.")
-    y = np.array([pair.log_ratio for pair in pairs])
-    sigma_y = np.array([pair.log_ratio_sigma for pair in pairs])
+    y = np.array([pair.green_ratio for pair in pairs])
+    sigma_y = np.array([pair.green_ratio_sigma for pair in pairs])
     t = celsius_to_kelvin(np.array([pair.reference_c for pair in pairs]))
     sigma_t = np.array([pair.reference_sigma_c for pair in pairs])
-    x = 1.0 / t
-    q0 = ideal_slope(space)
+    x, slope = ideal_green_ratio(t, space)
     if len(pairs) == 1:
-        sigma_x = sigma_t / t**2
-        variance = sigma_y**2 + (q0 * sigma_x) ** 2 + PRIOR_SCATTER_LN_RATIO**2
-        p = float(y[0] - q0 * x[0])
-        var_q = (PRIOR_SLOPE_SPREAD * q0) ** 2
-        cov = np.array([[variance[0] + x[0] ** 2 * var_q, -x[0] * var_q], [-x[0] * var_q, var_q]])
-        return RatioLaw(p, q0, cov, PRIOR_SCATTER_LN_RATIO, False)
-    q = q0
-    for _ in range(3):  # effective variance depends on the slope: iterate to convergence
-        weights = 1.0 / (sigma_y**2 + (q * sigma_t / t**2) ** 2)
-        design = np.column_stack([np.ones_like(x), x])
-        normal = design.T @ (design * weights[:, None])
-        cov = np.linalg.inv(normal)
-        p, q = cov @ (design.T @ (weights * y))
-    residual = y - (p + q * x)
-    dof = len(pairs) - 2
-    if dof >= 1:
-        chi2 = float((residual**2 * weights).sum())
-        scatter = float(np.sqrt(max(chi2 / dof - 1.0, 0.0) / weights.mean()))
-        cov = cov * max(chi2 / dof, 1.0)
-        return RatioLaw(float(p), float(q), cov, scatter, True)
-    return RatioLaw(float(p), float(q), cov, PRIOR_SCATTER_LN_RATIO, False)
-
-
-def predict(law: RatioLaw, log_ratio: float, log_ratio_sigma: float) -> TemperatureEstimate:
-    """Temperature from an observed ln(G/R) through the law, with 68 % and 95 % intervals.
-
-    Works in u = 1/T = (y - p) / q with the delta method (GUM 5.1.2), where the band is
-    symmetric, and maps the interval ends back to T.
-    """
-    u = (log_ratio - law.p) / law.q
-    if not np.isfinite(u) or u <= 0:
-        return TemperatureEstimate(None, None, None, np.inf, np.inf, "not-glow")
-    gradient = np.array([-1.0 / law.q, -u / law.q])
-    var_u = (log_ratio_sigma**2 + law.scatter**2) / law.q**2 + gradient @ law.covariance @ gradient
-    sigma_u = float(np.sqrt(var_u))
-
-    def interval(z):
-        low_u, high_u = u + z * sigma_u, max(u - z * sigma_u, 1e-6)
-        return (1.0 / low_u, 1.0 / high_u)
-
-    return TemperatureEstimate(
-        temperature_k=float(1.0 / u),
-        interval_68_k=interval(1.0),
-        interval_95_k=interval(1.959964),
-        chi2=0.0,
-        scale_factor=1.0,
-        status="ok",
-    )
+        variance = sigma_y[0] ** 2 + (slope[0] * sigma_t[0]) ** 2 + PRIOR_SCATTER**2
+        var_gain = PRIOR_GAIN_SIGMA**2
+        covariance = np.array(
+            [[variance + x[0] ** 2 * var_gain, -x[0] * var_gain], [-x[0] * var_gain, var_gain]]
+        )
+        return RatioMap(float(y[0] - x[0]), 1.0, covariance, PRIOR_SCATTER, False)
+    gain = 1.0
+    design = np.column_stack([np.ones_like(x), x])
+    for _ in range(3):  # the effective variance depends on the gain: iterate
+        weights = 1.0 / (sigma_y**2 + (gain * slope * sigma_t) ** 2)
+        covariance = np.linalg.inv(design.T @ (design * weights[:, None]))
+        offset, gain = covariance @ (design.T @ (weights * y))
+    if len(pairs) == 2:
+        return RatioMap(float(offset), float(gain), covariance, PRIOR_SCATTER, False)
+    residual = y - (offset + gain * x)
+    scatter_sq = max(float((residual**2).sum()) / (len(pairs) - 2) - float(np.mean(1.0 / weights)), 0.0)
+    scatter = float(np.sqrt(scatter_sq))
+    chi2_dof = float((residual**2 * weights).sum()) / (len(pairs) - 2)
+    return RatioMap(float(offset), float(gain), covariance * max(chi2_dof, 1.0), scatter, True)
 
 
 @dataclass
 class CameraProfile:
-    """A named camera profile: the law, the pairs it came from, and the camera it belongs to."""
+    """A named camera profile: the map, the pairs it came from, and the camera it belongs to."""
 
     name: str
-    law: RatioLaw
+    ratio_map: RatioMap
     pairs: list[Pair]
     colour_space: str
     camera: dict = field(default_factory=dict)  # make, model, white_balance, iso, exposure_time_s
@@ -189,12 +166,30 @@ class CameraProfile:
         refs = [pair.reference_c for pair in self.pairs]
         return (min(refs), max(refs))
 
+    @property
+    def space(self) -> RGBSpace:
+        for space in KNOWN_SPACES:
+            if space.name == self.colour_space:
+                return space
+        raise ProfileError(f"The profile's colour space {self.colour_space!r} is not one glowtemp knows.")
+
+    def camera_term(self) -> CameraTerm:
+        return self.ratio_map.camera_term()
+
+    def inside_span(self, temperature_c: float) -> bool:
+        low, high = self.span_c
+        return low - SPAN_MARGIN_C <= temperature_c <= high + SPAN_MARGIN_C
+
     def residuals_c(self) -> list[float]:
-        """Each pair's measured-minus-trusted temperature under the fitted law, in °C."""
+        """Each pair's mapped-minus-trusted temperature, in °C (the map inverted on the table grid)."""
+        grid = blackbody_table().temperature_k
+        ideal = locus_ratios(self.space, clipped=False)[:, 0]
+        rising = grid[ideal > ideal.min()]
         out = []
         for pair in self.pairs:
-            estimate = predict(self.law, pair.log_ratio, 0.0)
-            out.append(float(estimate.temperature_k - celsius_to_kelvin(pair.reference_c)))
+            target = (pair.green_ratio - self.ratio_map.offset) / self.ratio_map.gain
+            mapped = np.interp(target, ideal[grid >= rising[0]], grid[grid >= rising[0]])
+            out.append(float(mapped - celsius_to_kelvin(pair.reference_c)))
         return out
 
     def to_dict(self) -> dict:
@@ -203,13 +198,13 @@ class CameraProfile:
             "version": PROFILE_VERSION,
             "name": self.name,
             "created": self.created,
-            "model": "ratio-pyrometer ln(G/R) = p + q/T",
+            "model": "green/red = offset + gain * ideal green/red",
             "colour_space": self.colour_space,
             "camera": self.camera,
-            "parameters": {"p": self.law.p, "q_k": self.law.q},
-            "covariance": self.law.covariance.tolist(),
-            "scatter_ln_ratio": self.law.scatter,
-            "scatter_measured": self.law.scatter_measured,
+            "parameters": {"offset": self.ratio_map.offset, "gain": self.ratio_map.gain},
+            "covariance": self.ratio_map.covariance.tolist(),
+            "scatter": self.ratio_map.scatter,
+            "scatter_measured": self.ratio_map.scatter_measured,
             "span_c": list(self.span_c),
             "pairs": [pair.to_dict() for pair in self.pairs],
             "residuals_c": self.residuals_c(),
@@ -225,62 +220,32 @@ class CameraProfile:
                 "update glowtemp to read it."
             )
         try:
-            law = RatioLaw(
-                p=float(record["parameters"]["p"]),
-                q=float(record["parameters"]["q_k"]),
+            ratio_map = RatioMap(
+                offset=float(record["parameters"]["offset"]),
+                gain=float(record["parameters"]["gain"]),
                 covariance=np.array(record["covariance"], dtype=float).reshape(2, 2),
-                scatter=float(record["scatter_ln_ratio"]),
+                scatter=float(record["scatter"]),
                 scatter_measured=bool(record["scatter_measured"]),
             )
             pairs = [Pair(**pair) for pair in record["pairs"]]
+            profile = cls(
+                name=str(record["name"]),
+                ratio_map=ratio_map,
+                pairs=pairs,
+                colour_space=str(record["colour_space"]),
+                camera=dict(record.get("camera") or {}),
+                created=str(record.get("created", "")),
+            )
         except (KeyError, TypeError, ValueError) as error:
             raise ProfileError(f"This camera profile is damaged ({error}).") from None
-        return cls(
-            name=record["name"],
-            law=law,
-            pairs=pairs,
-            colour_space=record["colour_space"],
-            camera=dict(record.get("camera") or {}),
-            created=record.get("created", ""),
-        )
+        if not pairs:
+            raise ProfileError("This camera profile is damaged (it holds no pairs).")
+        return profile
 
 
 def fit_profile(name: str, pairs: list[Pair], space: RGBSpace, camera: dict, created: str) -> CameraProfile:
     """Fit a profile from pairs (all from one camera, one colour space)."""
-    return CameraProfile(name, fit_ratio_law(pairs, space), list(pairs), space.name, dict(camera), created)
+    return CameraProfile(name, fit_ratio_map(pairs, space), list(pairs), space.name, dict(camera), created)
 
 
-def extrapolation_sigma(law: RatioLaw, temperature_k: float, span_c: tuple[float, float]) -> float:
-    """Extra ln-ratio spread for a reading outside the pairs' span: the law's curvature is unknown.
-
-    Grows as the slope's prior spread times the distance in 1/T beyond the nearest end of the span.
-    """
-    low_k, high_k = (celsius_to_kelvin(t) for t in span_c)
-    u, u_low, u_high = 1.0 / temperature_k, 1.0 / high_k, 1.0 / low_k
-    beyond = max(u_low - u, u - u_high, 0.0)
-    return abs(PRIOR_SLOPE_SPREAD * law.q * beyond)
-
-
-def apply_profile(profile: CameraProfile, mean_linear, standard_error) -> tuple[TemperatureEstimate, bool]:
-    """Estimate through a profile; returns the estimate and whether it lies outside the span."""
-    ratios, errors = observed_ratios(mean_linear, standard_error)
-    if not np.all(np.isfinite(ratios)):
-        return TemperatureEstimate(None, None, None, np.inf, np.inf, "no-data"), False
-    green, sigma = float(ratios[0]), float(errors[0])
-    if green < MIN_RATIO_SIGNAL * sigma or green <= 0:
-        ceiling = predict(profile.law, float(np.log(max(green, 0.0) + 2 * sigma + 1e-9)), 0.0)
-        if ceiling.temperature_k is None:
-            return ceiling, False
-        top = ceiling.interval_95_k[1]
-        bottom = float(blackbody_table().temperature_k[0])
-        return TemperatureEstimate(None, None, (bottom, top), 0.0, 1.0, "upper-bound"), False
-    log_ratio, log_sigma = float(np.log(green)), sigma / green
-    first = predict(profile.law, log_ratio, log_sigma)
-    if first.temperature_k is None:
-        return first, False
-    extra = extrapolation_sigma(profile.law, first.temperature_k, profile.span_c)
-    low, high = profile.span_c
-    outside = not (low - SPAN_MARGIN_C <= first.temperature_k - 273.15 <= high + SPAN_MARGIN_C)
-    if extra > 0:
-        first = predict(profile.law, log_ratio, float(np.hypot(log_sigma, extra)))
-    return first, outside
+assert TABLE_MIN_K < 800  # the map is fitted on the table; glow starts near 800 K

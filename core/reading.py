@@ -12,7 +12,13 @@ import numpy as np
 
 from . import advice
 from .colourspaces import SRGB, srgb_encode
-from .estimate import UNCALIBRATED, CameraTerm, TemperatureEstimate, estimate_temperature
+from .estimate import (
+    UNCALIBRATED,
+    CameraTerm,
+    TemperatureEstimate,
+    estimate_temperature,
+    with_auto_white_balance,
+)
 from .locus import TABLE_MAX_K, blackbody_swatch_hex
 from .region import find_glow
 from .sampling import RegionStatistics, region_statistics
@@ -23,6 +29,8 @@ from .scales import (
     round_to,
     rounding_step,
 )
+
+MOSTLY_CLIPPED = 0.5  # with more of the region blown out, the rest is the rim: no estimate
 
 INSTRUMENT_NOTICE = (
     "An estimate from colour, not a calibrated instrument: check it against a thermocouple or "
@@ -59,20 +67,16 @@ class Reading:
         step = rounding_step((high68 - low68) / 2)
         down = lambda t: int(np.floor(kelvin_to_celsius(t) / step) * step)  # noqa: E731
         up = lambda t: int(np.ceil(kelvin_to_celsius(t) / step) * step)  # noqa: E731
+        band95 = [down(e.interval_95_k[0]), up(e.interval_95_k[1])]
+        if e.status == "wide":  # a range only: one central number would look surer than it is
+            return None, None, band95, None, step
         central = round_to(kelvin_to_celsius(e.temperature_k), step)
-        return (
-            central,
-            [down(e.interval_68_k[0]), up(e.interval_68_k[1])],
-            [down(e.interval_95_k[0]), up(e.interval_95_k[1])],
-            None,
-            step,
-        )
+        return central, [down(e.interval_68_k[0]), up(e.interval_68_k[1])], band95, None, step
 
     def to_dict(self) -> dict:
         """The JSON form shared by ``glowtemp measure --json``, the web API and the firing log."""
         central, band68, band95, ceiling, step = self._celsius()
         to_f = lambda t: None if t is None else round_to(celsius_to_fahrenheit(t), 1)  # noqa: E731
-        shown = central if central is not None else ceiling
         return {
             "photo": self.photo_name,
             "status": self.estimate.status,
@@ -86,9 +90,9 @@ class Reading:
             "interval_95_f": None if band95 is None else [to_f(t) for t in band95],
             "upper_bound_f": to_f(ceiling),
             "temperature_k": None if central is None else round_to(central + 273.15, step),
-            "glow_name": None if shown is None else heat_colour_name(shown),
+            "glow_name": None if central is None else heat_colour_name(central),
             "estimate_colour_hex": None
-            if self.estimate.temperature_k is None
+            if central is None
             else blackbody_swatch_hex(self.estimate.temperature_k),
             "region_colour_hex": self.region_colour_hex,
             "warnings": [w.to_dict() for w in self.warnings],
@@ -141,6 +145,8 @@ def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -
         found.append(advice.ambiguous())
     if estimate.status == "upper-bound":
         found.append(advice.colour_floor(photo.space.name, kelvin_to_celsius(estimate.interval_95_k[1])))
+    elif estimate.status == "wide":
+        found.append(advice.wide_range())
     elif estimate.usable and kelvin_to_celsius(estimate.temperature_k) < advice.BELOW_GLOW_C:
         found.append(advice.below_glow())
     if estimate.at_table_top:
@@ -148,20 +154,16 @@ def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -
     return found
 
 
-def _profiled_estimate(profile, photo, stats):
-    """Estimate through a camera profile, with the advice that applying it raises."""
-    from .profile import apply_profile
-
-    notes = []
+def _profile_camera(profile, photo):
+    """The camera term a profile gives for this photo (None if it does not apply) and its advice."""
     if profile.colour_space != photo.space.name:
-        notes.append(advice.profile_space_mismatch(profile.colour_space, photo.space.name))
-        return None, notes
+        return None, [advice.profile_space_mismatch(profile.colour_space, photo.space.name)]
+    notes = []
     if profile.camera.get("camera_model") != photo.metadata.camera_model:
-        notes.append(advice.profile_camera_mismatch(profile.camera.get("camera_model"), photo.metadata.camera_model))
-    estimate, outside = apply_profile(profile, stats.mean_linear, stats.standard_error)
-    if outside:
-        notes.append(advice.outside_profile_span(profile.span_c))
-    return estimate, notes
+        notes.append(
+            advice.profile_camera_mismatch(profile.camera.get("camera_model"), photo.metadata.camera_model)
+        )
+    return profile.camera_term(), notes
 
 
 def measure(
@@ -180,22 +182,30 @@ def measure(
     if region_found:
         region = find_glow(photo.codes[:, :, 0])
     stats = region_statistics(photo, region)
-    estimate, profile_notes = (None, [])
+    notes, applied = [], None
     if profile is not None:
-        estimate, profile_notes = _profiled_estimate(profile, photo, stats)
-    applied = estimate is not None
-    if estimate is None:
+        profiled, notes = _profile_camera(profile, photo)
+        if profiled is not None:
+            camera, applied = profiled, profile
+    if photo.metadata.white_balance == "auto":
+        camera = with_auto_white_balance(camera)
+    if stats.pixels_clipped > MOSTLY_CLIPPED * stats.pixels_total:
+        estimate = TemperatureEstimate(None, None, None, np.inf, np.inf, "clipped")
+    else:
         estimate = estimate_temperature(stats.mean_linear, stats.standard_error, photo.space, camera)
+    if applied is not None and estimate.temperature_k is not None:
+        if not applied.inside_span(kelvin_to_celsius(estimate.temperature_k)):
+            notes.append(advice.outside_profile_span(applied.span_c))
     return Reading(
         photo_name=photo_name,
         region=region,
         region_found=region_found,
         statistics=stats,
         estimate=estimate,
-        warnings=tuple(_advice_for(photo, stats, estimate) + profile_notes),
+        warnings=tuple(_advice_for(photo, stats, estimate) + notes),
         colour_space=photo.space.name,
         space_source=photo.space_source,
         metadata=photo.metadata.to_dict(),
-        profile=profile.name if applied else None,
+        profile=applied.name if applied is not None else None,
         region_colour_hex=region_colour_hex(stats.mean_linear, photo.space),
     )

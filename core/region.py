@@ -153,16 +153,21 @@ def otsu_threshold(values: np.ndarray, levels: int = 256) -> float:
     return int(np.argmax(between[:-1]))
 
 
+def dilate(mask: np.ndarray) -> np.ndarray:
+    """Binary dilation by the 4-connected cross (Gonzalez and Woods, section 9.2)."""
+    grown = mask.copy()
+    grown[1:] |= mask[:-1]
+    grown[:-1] |= mask[1:]
+    grown[:, 1:] |= mask[:, :-1]
+    grown[:, :-1] |= mask[:, 1:]
+    return grown
+
+
 def _grow(seed: np.ndarray, allowed: np.ndarray) -> np.ndarray:
     """Morphological reconstruction by dilation: the part of ``allowed`` connected to ``seed``."""
     region = seed & allowed
     while True:
-        grown = region.copy()
-        grown[1:] |= region[:-1]
-        grown[:-1] |= region[1:]
-        grown[:, 1:] |= region[:, :-1]
-        grown[:, :-1] |= region[:, 1:]
-        grown &= allowed
+        grown = dilate(region) & allowed
         if np.array_equal(grown, region):
             return region
         region = grown

@@ -25,9 +25,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .region import region_window
+from .region import dilate, region_window
 
 CLIP_FRACTION = 250 / 255  # a channel at or above this share of the largest code is clipped
+CLIP_REACH_PX = 2  # neighbours of a clipped pixel this close are dropped with it
 DARK_FLOOR_LINEAR = 0.01  # red below this linear level is too dark to carry colour
 DARK_RELATIVE = 0.15  # ... or below this share of the region's bright (99th percentile) red
 OUTLIER_MADS = 6.0  # Hampel identifier cut, in robust standard deviations
@@ -64,6 +65,18 @@ class RegionStatistics:
         }
 
 
+def _near_clipped(window: np.ndarray, max_code: int) -> np.ndarray:
+    """Pixels with a channel at or near full scale, and their neighbours within CLIP_REACH_PX.
+
+    Neighbours are dropped too: demosaicing and JPEG's 8 x 8 blocks spread a blown-out pixel's
+    error into the pixels around it (ITU-T T.81).
+    """
+    near = (window >= CLIP_FRACTION * max_code).any(axis=2)
+    for _ in range(CLIP_REACH_PX):
+        near = dilate(near)
+    return near
+
+
 def _robust_keep(values: np.ndarray, floor: float) -> np.ndarray:
     median = np.median(values)
     sigma = max(1.4826 * float(np.median(np.abs(values - median))), floor)
@@ -85,9 +98,10 @@ def _background_level(photo, region, region_red: float) -> float:
 def region_statistics(photo, region) -> RegionStatistics:
     """Mask a region of ``photo`` (a :class:`glowtemp.photo.Photo`) and summarise its usable pixels."""
     rows, cols, inside = region_window(region, photo.width, photo.height)
-    codes = photo.codes[rows, cols][inside]
+    window = photo.codes[rows, cols]
+    clipped = _near_clipped(window, photo.max_code)[inside]
+    codes = window[inside]
     total = len(codes)
-    clipped = (codes >= CLIP_FRACTION * photo.max_code).any(axis=1)
     codes = codes[~clipped]
     linear = photo.linear(codes)
     red = linear[:, 0]
