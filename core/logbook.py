@@ -21,7 +21,7 @@ from pathlib import Path
 from . import logbook_fields as fields
 from .cones import ConeError, cone_table
 from .logbook_fields import LogbookError
-from .logbook_schema import SchemaError, migrate, result_columns
+from .logbook_schema import RESULT_COLUMNS, SchemaError, migrate, result_columns
 from .photo_store import PhotoStore, PhotoStoreError
 
 __all__ = ["Logbook", "LogbookError"]
@@ -121,7 +121,7 @@ class Logbook:
         except PhotoStoreError as error:
             raise LogbookError(str(error)) from None
 
-    def _forget_photos(self, keys) -> None:
+    def forget_unused_photos(self, keys) -> None:
         """Remove photo files that no row refers to any more (after the rows are gone)."""
         with self._lock:
             for key in set(keys):
@@ -192,7 +192,7 @@ class Logbook:
             keys = [row["photo_key"] for row in db.execute("SELECT photo_key FROM readings WHERE firing_id = ?", (firing_id,))]
             db.execute("DELETE FROM readings WHERE firing_id = ?", (firing_id,))
             db.execute("DELETE FROM firings WHERE id = ?", (firing_id,))
-        self._forget_photos(keys)
+        self.forget_unused_photos(keys)
 
     # Readings
 
@@ -260,10 +260,15 @@ class Logbook:
 
     @staticmethod
     def _reading_dict(row: sqlite3.Row) -> dict:
-        reading = {key: row[key] for key in row.keys() if key != "result_json"}
-        reading["result"] = json.loads(row["result_json"])
-        reading["interval_68_c"] = _band(reading.pop("band68_low_c"), reading.pop("band68_high_c"))
-        reading["interval_95_c"] = _band(reading.pop("band95_low_c"), reading.pop("band95_high_c"))
+        reading = {key: row[key] for key in row.keys() if key not in ("result_json", *RESULT_COLUMNS)}
+        result = json.loads(row["result_json"])
+        columns = result_columns(result)  # as the estimator wrote them (the columns hold floats)
+        reading.update(
+            result=result,
+            interval_68_c=_band(columns.pop("band68_low_c"), columns.pop("band68_high_c")),
+            interval_95_c=_band(columns.pop("band95_low_c"), columns.pop("band95_high_c")),
+            **columns,
+        )
         return reading
 
     def get_reading(self, reading_id: int) -> dict | None:
@@ -302,7 +307,7 @@ class Logbook:
         with self._write() as db:
             key = self._need_reading(reading_id)["photo_key"]
             db.execute("DELETE FROM readings WHERE id = ?", (reading_id,))
-        self._forget_photos([key])
+        self.forget_unused_photos([key])
 
     def readings_in(self, firing_id: int) -> list[dict]:
         """A firing's readings in the order they were taken."""

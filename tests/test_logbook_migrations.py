@@ -60,5 +60,10 @@ def test_version_1_log_opens_with_its_estimates_filled_in(tmp_path):
 
     database = sqlite3.connect(tmp_path / "glowtemp.sqlite3")
     versions = [row[0] for row in database.execute("SELECT version FROM schema_version ORDER BY version")]
+    columns = database.execute(
+        "SELECT status, temperature_c, band68_low_c, band68_high_c, band95_low_c, band95_high_c, region_text "
+        "FROM readings WHERE id = 1"
+    ).fetchone()
     database.close()
+    assert columns == ("ok", 1180, 1160, 1200, 1140, 1220, "1,2,3,4")  # filled in from the version-1 JSON
     assert versions == list(range(1, CURRENT_VERSION + 1))
