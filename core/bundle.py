@@ -76,7 +76,7 @@ def _open(source) -> zipfile.ZipFile:
     try:
         return zipfile.ZipFile(source)
     except (zipfile.BadZipFile, OSError) as error:
-        raise BundleError(f"This is not a readable zip file ({error}); export the firing again.") from None
+        raise BundleError(f"This is not a readable zip file ({error}); glowtemp export makes bundles.") from None
 
 
 def _check_names(bundle: zipfile.ZipFile) -> list[str]:

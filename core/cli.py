@@ -172,6 +172,10 @@ def build_parser() -> argparse.ArgumentParser:
     serve.add_argument("--data", metavar="DIR", help="data folder (profiles, firing log)")
     serve.add_argument("--demo", metavar="DIR", help="add the demo photos in DIR to the firing log first")
     serve.set_defaults(run=_serve)
+
+    from .logbook_cli import add_logbook_commands  # firings, export, import (lazy handlers)
+
+    add_logbook_commands(commands)
     return parser
 
 

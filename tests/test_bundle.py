@@ -193,7 +193,7 @@ def test_bad_bundles_are_refused_with_nothing_stored(tmp_path, log, change, word
 
 
 def test_not_a_zip_and_no_manifest(tmp_path, log):
-    with pytest.raises(BundleError, match="not a readable zip"):
+    with pytest.raises(BundleError, match="not a readable zip file"):
         import_bundle(log, io.BytesIO(b"PK\x03\x04 certainly not a zip"))
     empty = io.BytesIO()
     zipfile.ZipFile(empty, "w").close()
