@@ -7,7 +7,7 @@ from pathlib import Path
 import pytest
 
 from glowtemp.logbook import Logbook
-from glowtemp.logbook_demo import DEMO_FIRING_NAME, seed_demo
+from glowtemp.demo import DEMO_FIRING_NAME, seed_demo
 
 DEMO_DIR = Path(__file__).resolve().parent.parent / "demo_images"
 
