@@ -67,17 +67,24 @@ class CameraTerm:
     green_offset: float = 0.0
     offset_gain_covariance: tuple = ((0.0, 0.0), (0.0, 0.0))
     white_balance_factors: tuple = (1.0,)
+    fitted_span: tuple | None = None  # ideal green/red at the ends of a profile's pairs
+    extrapolation_sigma: float = 0.0  # spread per unit of ideal green/red beyond that span
 
     def model(self, space: RGBSpace):
         """Predicted (green/red, blue/red) on the table grid and the camera part of their variance."""
-        ideal = locus_ratios(space, clipped=False)
-        clipped = locus_ratios(space)
-        green = np.clip(self.green_offset + self.green_gain * ideal[:, 0], 0.0, None)
-        ratios = np.column_stack([green, clipped[:, 1]])
+        ideal = locus_ratios(space, clipped=False)[:, 0]
+        green = np.clip(self.green_offset + self.green_gain * ideal, 0.0, None)
+        ratios = np.column_stack([green, locus_ratios(space)[:, 1]])
+        # Where the map predicts a clipped (zero) green, its spread is that at the clipping point.
+        at = np.maximum(ideal, -self.green_offset / self.green_gain)
         covariance = np.asarray(self.offset_gain_covariance, dtype=float)
-        fit_var = covariance[0, 0] + 2 * ideal[:, 0] * covariance[0, 1] + ideal[:, 0] ** 2 * covariance[1, 1]
+        fit_var = covariance[0, 0] + 2 * at * covariance[0, 1] + at**2 * covariance[1, 1]
         variance = (self.ratio_sigma * ratios) ** 2 + np.array([self.green_floor, self.blue_floor]) ** 2
         variance[:, 0] += fit_var
+        if self.fitted_span is not None:
+            low, high = self.fitted_span
+            beyond = np.maximum(np.maximum(low - at, at - high), 0.0)
+            variance[:, 0] += (self.extrapolation_sigma * beyond) ** 2
         return ratios, variance
 
 

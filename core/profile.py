@@ -98,13 +98,18 @@ class RatioMap:
     scatter: float
     scatter_measured: bool
 
-    def camera_term(self) -> CameraTerm:
+    def camera_term(self, fitted_span: tuple) -> CameraTerm:
+        """The estimator's camera term; beyond ``fitted_span`` (ideal green/red at the ends of
+        the pairs) the map's straightness is unverified, so its spread grows with the distance
+        at the cameras' gain spread."""
         return CameraTerm(
             ratio_sigma=0.0,
             green_floor=self.scatter,
             green_gain=self.gain,
             green_offset=self.offset,
             offset_gain_covariance=tuple(map(tuple, self.covariance)),
+            fitted_span=fitted_span,
+            extrapolation_sigma=PRIOR_GAIN_SIGMA,
         )
 
 
@@ -174,7 +179,9 @@ class CameraProfile:
         raise ProfileError(f"The profile's colour space {self.colour_space!r} is not one glowtemp knows.")
 
     def camera_term(self) -> CameraTerm:
-        return self.ratio_map.camera_term()
+        ends_k = celsius_to_kelvin(np.array(self.span_c))
+        low, high = ideal_green_ratio(ends_k, self.space)[0]
+        return self.ratio_map.camera_term((float(low), float(high)))
 
     def inside_span(self, temperature_c: float) -> bool:
         low, high = self.span_c
