@@ -91,8 +91,8 @@ def describe_profile(record: dict) -> str:
     lines = [
         f"profile {record['name']}: {camera}, {record['colour_space']}, "
         f"{len(record['pairs'])} pairs spanning {low:.0f}-{high:.0f} °C",
-        f"  law ln(G/R) = {record['parameters']['p']:.4f} + {record['parameters']['q_k']:.1f} K / T; "
-        f"scatter {record['scatter_ln_ratio']:.3f} in ln(G/R), {scatter}",
+        f"  green/red = {record['parameters']['offset']:+.4f} + {record['parameters']['gain']:.3f} x ideal; "
+        f"scatter {record['scatter']:.4f}, {scatter}",
     ]
     for pair, residual in zip(record["pairs"], record["residuals_c"]):
         source = f"cone {pair['cone']}" if pair["cone"] else "thermocouple"
