@@ -5,6 +5,10 @@ true value is unknown and its colour ratios are wrong), too *dark* to carry colo
 *outlier* whose green/red ratio lies far from the region's median (a reflection or a speck).
 Outliers are judged robustly by the median absolute deviation (Hampel's identifier).
 
+Light that is not glow (daylight, shop lamps) is broad-band: it lifts every channel of the
+surroundings, where glow lifts red alone. So the surroundings' weakest channel, relative to the
+region's red, measures how much such light is about (it also reflects off the work).
+
 The standard error of each channel mean allows for two things besides pixel scatter:
 neighbouring pixels of a demosaiced, chroma-subsampled JPEG are not independent, and a mean of
 coarsely quantised values is only as fine as one code step unless noise dithers it.
@@ -50,7 +54,7 @@ class RegionStatistics:
     pixels_clipped: int
     pixels_dark: int
     pixels_outlier: int
-    background_level: float  # median brightness outside the region / region mean red
+    background_level: float  # median of the weakest channel outside the region / region mean red
 
     def to_dict(self) -> dict:
         return {
@@ -92,7 +96,7 @@ def _background_level(photo, region, region_red: float) -> float:
     if not outside.any() or region_red <= 0:
         return 0.0
     linear = photo.linear(codes[outside])
-    return float(np.median(linear.max(axis=1))) / region_red
+    return float(np.median(linear.min(axis=1))) / region_red
 
 
 def region_statistics(photo, region) -> RegionStatistics:
