@@ -31,8 +31,6 @@ from datetime import datetime
 from pathlib import Path
 
 import numpy as np
-import png
-import tifffile
 from PIL import Image, UnidentifiedImageError
 
 from .colourspaces import ADOBE_RGB, SRGB, RGBSpace, gamma_decode, srgb_decode
@@ -51,10 +49,11 @@ TAG_DATETIME_ORIGINAL, TAG_COLOR_SPACE, TAG_WHITE_BALANCE = 0x9003, 0xA001, 0xA4
 TAG_INTEROP_INDEX = 0x0001
 TAG_DNG_VERSION = 0xC612
 
-# What a failing decoder may raise on damaged input (Pillow, pypng, tifffile, zlib).
+# What a failing decoder may raise on damaged input (Pillow, tifffile, zlib; pypng's own
+# errors are translated where it is called). pypng and tifffile load only for 16-bit files.
 DECODER_FAILURES = (
     OSError, ValueError, SyntaxError, EOFError, IndexError, KeyError, TypeError,
-    struct.error, zlib.error, png.Error, Image.DecompressionBombError,
+    struct.error, zlib.error, Image.DecompressionBombError,
 )
 
 
@@ -316,16 +315,23 @@ def _pillow_pixels(image: Image.Image) -> np.ndarray:
 
 def _png16_pixels(data: bytes) -> np.ndarray:
     """16-bit PNG pixels with pypng (PNG 3rd ed., ISO/IEC 15948): (H, W, 3) uint16."""
-    width, height, rows, info = png.Reader(bytes=data).read()
-    planes = info["planes"]
-    pixels = np.empty((height, width * planes), dtype=np.uint16)
-    for index, row in enumerate(rows):
-        pixels[index] = row
+    import png
+
+    try:
+        width, height, rows, info = png.Reader(bytes=data).read()
+        planes = info["planes"]
+        pixels = np.empty((height, width * planes), dtype=np.uint16)
+        for index, row in enumerate(rows):
+            pixels[index] = row
+    except png.Error as error:
+        raise ValueError(str(error)) from error
     return _three_channels(pixels.reshape(height, width, planes), colour=not info["greyscale"])
 
 
 def _tiff16_pixels(data: bytes) -> np.ndarray:
     """16-bit TIFF pixels with tifffile (TIFF 6.0): (H, W, 3) uint16."""
+    import tifffile
+
     with tifffile.TiffFile(io.BytesIO(data)) as tiff:
         page = tiff.pages[0]
         colour = page.photometric == tifffile.PHOTOMETRIC.RGB
