@@ -27,7 +27,8 @@ THERMOCOUPLE_COLOUR = "#24507a"
 CONE_COLOUR = "#2e6b3f"
 TARGET_COLOUR = "#6a6a6a"
 RATE_COLOUR = "#7b6a58"
-FIGURE_SIZE_IN = (7.0, 5.2)
+FIGURE_SIZE_IN = (7.0, 5.2)  # the PNG, for a screen or paper
+WEB_FIGURE_SIZE_IN = (4.6, 5.0)  # the SVG, sized so its text stays readable on a phone
 
 _drawing = threading.Lock()
 
@@ -40,12 +41,12 @@ def _to_unit(unit: str):
     raise ValueError(f"The chart unit must be 'C' or 'F'; got {unit!r}.")
 
 
-def _figure(points: list[CurvePoint], target_c: float | None, target_label: str | None, unit: str, title: str | None):
+def _figure(points, target_c, target_label, unit: str, title: str | None, size_in=FIGURE_SIZE_IN):
     from matplotlib.figure import Figure
 
     convert = _to_unit(unit)
     rate_scale = 1.0 if unit == "C" else 9 / 5
-    figure = Figure(figsize=FIGURE_SIZE_IN, layout="constrained")
+    figure = Figure(figsize=size_in, layout="constrained")
     if title:
         figure.suptitle(title, fontsize="medium")
     heat, rate = figure.subplots(2, 1, sharex=True, height_ratios=(3, 1))
@@ -79,7 +80,7 @@ def _figure(points: list[CurvePoint], target_c: float | None, target_label: str 
 
     heat.set_ylabel(f"temperature (°{unit})")
     if heat.get_legend_handles_labels()[0]:
-        figure.legend(loc="outside lower center", ncols=3, fontsize="small", frameon=False)
+        figure.legend(loc="outside lower center", ncols=3 if size_in[0] > 6 else 2, fontsize="small", frameon=False)
     else:
         heat.text(0.5, 0.5, "no readings yet", transform=heat.transAxes, ha="center", va="center", color=TARGET_COLOUR)
 
@@ -122,7 +123,7 @@ def firing_chart_svg(points: list[CurvePoint], target_c=None, target_label=None,
     import matplotlib
 
     with _drawing, matplotlib.rc_context({"svg.fonttype": "none", "svg.hashsalt": "glowtemp-curve"}):
-        text = _render(_figure(points, target_c, target_label, unit, title), "svg").decode("utf-8")
+        text = _render(_figure(points, target_c, target_label, unit, title, WEB_FIGURE_SIZE_IN), "svg").decode("utf-8")
     return text[text.index("<svg"):]
 
 

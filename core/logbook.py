@@ -174,8 +174,8 @@ class Logbook:
         """Change a firing's fields (name, kiln, kind, target_c, target_cone, started_at, notes, status)."""
         values = _firing_values(self._known_cones(), **changes)
         with self._write() as db:
-            self._need_firing(firing_id)
-            if "status" in values:
+            current = self._need_firing(firing_id)
+            if values.get("status", current["status"]) != current["status"]:
                 values["closed_at"] = fields.utc_now() if values["status"] == "closed" else None
             if values:
                 assignments = ", ".join(f"{name} = ?" for name in values)

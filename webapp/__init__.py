@@ -36,13 +36,14 @@ def create_app(config: dict | None = None) -> Flask:
 
     from glowtemp.logbook import Logbook
 
-    from . import api, errors, measuring, pages
+    from . import api, errors, firings, measuring, pages
     from .photo_cache import PhotoCache
 
     app.extensions["glowtemp"] = {"logbook": Logbook(app.config["DATA_DIR"]), "photos": PhotoCache()}
     app.register_blueprint(measuring.blueprint)
     app.register_blueprint(api.blueprint)
     app.register_blueprint(pages.blueprint)
+    app.register_blueprint(firings.blueprint)
     errors.register(app)
 
     @app.context_processor

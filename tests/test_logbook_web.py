@@ -1,0 +1,181 @@
+"""Firings on the web (Flask test client): pages, forms, the JSON API and their error paths."""
+
+import io
+import zipfile
+
+import pytest
+
+from glowtemp.bundle import import_bundle
+from glowtemp.logbook import Logbook
+
+
+def logbook(app) -> Logbook:
+    return app.extensions["glowtemp"]["logbook"]
+
+
+@pytest.fixture
+def firing_id(web_client):
+    answer = web_client.post("/api/firings", json={"name": "Cone 6 glaze", "kind": "glaze", "target_cone": "6"})
+    assert answer.status_code == 201
+    return answer.get_json()["id"]
+
+
+def upload(client, firing_id, jpeg, **fields):
+    data = {"photo": (io.BytesIO(jpeg), "spy.jpg"), **fields}
+    return client.post(f"/api/firings/{firing_id}/readings", data=data, content_type="multipart/form-data")
+
+
+def test_api_firings_create_list_get_patch_delete(web_client, firing_id):
+    assert [f["name"] for f in web_client.get("/api/firings").get_json()["firings"]] == ["Cone 6 glaze"]
+    changed = web_client.patch(f"/api/firings/{firing_id}", json={"status": "closed", "kiln": "Big one"})
+    assert changed.status_code == 200 and changed.get_json()["status"] == "closed" and changed.get_json()["kiln"] == "Big one"
+    body = web_client.get(f"/api/firings/{firing_id}").get_json()
+    assert body["firing"]["name"] == "Cone 6 glaze" and body["readings"] == []
+    assert body["rates"]["last_step_c_per_h"] is None
+    assert web_client.delete(f"/api/firings/{firing_id}").status_code == 204
+    assert web_client.get(f"/api/firings/{firing_id}").status_code == 404
+
+
+@pytest.mark.parametrize(
+    "body, words",
+    [
+        ({"name": "x", "kind": "party"}, "kind of firing"),
+        ({"kind": "glaze"}, "name is needed"),
+        ({"name": "x", "target_c": "very hot"}, "number of °C"),
+        ({"name": "x", "target_cone": "99"}, "cone table"),
+    ],
+)
+def test_api_refuses_bad_firings_in_plain_words(web_client, body, words):
+    answer = web_client.post("/api/firings", json=body)
+    assert answer.status_code == 400 and words in answer.get_json()["error"]
+    assert web_client.get("/api/firings").get_json()["firings"] == []
+
+
+def test_api_patch_errors(web_client, firing_id):
+    assert web_client.patch(f"/api/firings/{firing_id}", data={"status": "closed"}).status_code == 400  # not JSON
+    answer = web_client.patch(f"/api/firings/{firing_id}", json={"colour": "red"})
+    assert answer.status_code == 400 and "no field colour" in answer.get_json()["error"]
+    assert web_client.patch("/api/firings/999", json={"status": "closed"}).status_code == 404
+    assert web_client.get(f"/api/firings/{firing_id}").get_json()["firing"]["status"] == "open"
+
+
+def test_api_reading_into_a_firing_with_trusted_values(web_app, web_client, firing_id, two_halves_jpeg):
+    answer = upload(web_client, firing_id, two_halves_jpeg, reference_f="1950", cone="5", cone_state="bent",
+                    note="peep", region="0,0,150,240")  # fmt: skip
+    assert answer.status_code == 201
+    body = answer.get_json()
+    # NIST SP 811 B.9: t_C = (t_F - 32) * 5/9, so 1950 °F is 1065.56 °C.
+    assert body["reference_c"] == pytest.approx((1950 - 32) * 5 / 9)
+    assert (body["cone"], body["cone_state"], body["note"], body["firing_id"]) == ("5", "bent", "peep", firing_id)
+    assert body["status"] == "ok" and body["region"]["text"] == "0,0,150,240"
+    stored = logbook(web_app).get_reading(body["id"])
+    assert logbook(web_app).photo_path(stored["photo_key"]).read_bytes() == two_halves_jpeg
+    edited = web_client.patch(f"/api/firings/{firing_id}/readings/{body['id']}", json={"reference_c": 1066, "note": ""})
+    assert edited.status_code == 200 and edited.get_json()["reference_c"] == 1066 and edited.get_json()["note"] is None
+    refused = web_client.patch(f"/api/firings/{firing_id}/readings/{body['id']}", json={"photo_key": "x"})
+    assert refused.status_code == 400
+    assert web_client.patch(f"/api/firings/{firing_id}/readings/999", json={"note": "x"}).status_code == 404
+
+
+@pytest.mark.parametrize(
+    "fields, words",
+    [
+        ({"cone": "99"}, "cone table"),
+        ({"cone_state": "bent"}, "needs the number of the cone"),
+        ({"reference_c": "hot"}, "number of °C"),
+        ({"reference_c": "1000", "reference_f": "1832"}, "not both"),
+        ({"region": "1,2,3"}, "4 whole numbers"),
+        ({"taken_at": "noon"}, "date and time"),
+    ],
+)
+def test_api_reading_refusals_store_nothing(web_app, web_client, firing_id, two_halves_jpeg, fields, words):
+    answer = upload(web_client, firing_id, two_halves_jpeg, **fields)
+    assert answer.status_code == 400 and words in answer.get_json()["error"]
+    assert logbook(web_app).readings_in(firing_id) == []
+    assert logbook(web_app).photos.keys() == []
+
+
+def test_api_reading_needs_a_photo_and_a_firing(web_client, firing_id, two_halves_jpeg):
+    answer = web_client.post(f"/api/firings/{firing_id}/readings", data={"note": "x"}, content_type="multipart/form-data")
+    assert answer.status_code == 400 and "photo" in answer.get_json()["error"]
+    assert upload(web_client, firing_id, b"not an image").status_code == 400
+    assert upload(web_client, 999, two_halves_jpeg).status_code == 404
+
+
+def test_exports(web_app, web_client, firing_id, two_halves_jpeg, tmp_path):
+    upload(web_client, firing_id, two_halves_jpeg, reference_c="-5", note="=1+1")
+    csv_answer = web_client.get(f"/api/firings/{firing_id}/export.csv")
+    assert csv_answer.status_code == 200 and csv_answer.mimetype == "text/csv"
+    assert "attachment" in csv_answer.headers["Content-Disposition"]
+    text = csv_answer.get_data(as_text=True)
+    assert ",-5.0," in text and "\"'=1+1\"" in text
+    zip_answer = web_client.get(f"/api/firings/{firing_id}/export.zip")
+    assert zip_answer.mimetype == "application/zip"
+    assert "manifest.json" in zipfile.ZipFile(io.BytesIO(zip_answer.data)).namelist()
+    with Logbook(tmp_path / "elsewhere") as other:
+        restored = import_bundle(other, io.BytesIO(zip_answer.data))
+        assert other.readings_in(restored)[0]["note"] == "=1+1"
+    assert web_client.get("/api/firings/999/export.csv").status_code == 404
+    assert web_client.get("/api/firings/999/export.zip").status_code == 404
+
+
+def test_list_page_and_starting_a_firing_by_form(web_client):
+    assert "No firings yet" in web_client.get("/firings/").get_data(as_text=True)
+    answer = web_client.post("/firings/", data={"name": "Glass fuse", "kind": "glass", "target_f": "1450", "kiln": ""})
+    assert answer.status_code == 303
+    page = web_client.get(answer.headers["Location"]).get_data(as_text=True)
+    assert "Glass fuse" in page and "<svg" in page and "No readings yet" in page
+    # 1450 °F is 787.8 °C (NIST SP 811 B.9); the list shows the target in the unit asked for.
+    assert "target 787.8 °C" in web_client.get("/firings/").get_data(as_text=True)
+    assert "target 1450 °F" in web_client.get("/firings/?unit=f").get_data(as_text=True)
+    refused = web_client.post("/firings/", data={"name": "", "kind": "glass"})
+    assert refused.status_code == 400 and "name is needed" in refused.get_data(as_text=True)
+
+
+def test_firing_page_reading_forms(web_app, web_client, firing_id, two_halves_jpeg):
+    added = web_client.post(
+        f"/firings/{firing_id}/readings",
+        data={"photo": (io.BytesIO(two_halves_jpeg), "spy.jpg"), "reference": "1832", "reference_unit": "f"},
+        content_type="multipart/form-data",
+    )
+    assert added.status_code == 303
+    (reading,) = logbook(web_app).readings_in(firing_id)
+    assert reading["reference_c"] == pytest.approx(1000.0)  # 1832 °F = 1000 °C (NIST SP 811 B.9)
+    page = web_client.get(f"/firings/{firing_id}").get_data(as_text=True)
+    assert "Thermocouple 1000 °C" in page and f'id="reading-{reading["id"]}"' in page
+    assert "Thermocouple 1832 °F" in web_client.get(f"/firings/{firing_id}?unit=f").get_data(as_text=True)
+
+    edit = f"/firings/{firing_id}/readings/{reading['id']}/edit"
+    answer = web_client.post(edit, data={"reference": "", "reference_unit": "c", "cone": "6", "cone_state": "standing",
+                                         "note": "shelf 2", "taken_at": ""})  # fmt: skip
+    assert answer.status_code == 303
+    edited = logbook(web_app).get_reading(reading["id"])
+    assert (edited["reference_c"], edited["cone"], edited["cone_state"], edited["note"]) == (None, "6", "standing", "shelf 2")
+    assert edited["taken_at"] == reading["taken_at"]
+    assert web_client.post(edit, data={"cone": "", "cone_state": "bent"}).status_code == 400
+
+    delete = f"/firings/{firing_id}/readings/{reading['id']}/delete"
+    assert web_client.post(delete, data={}).status_code == 400  # not confirmed
+    assert logbook(web_app).get_reading(reading["id"]) is not None
+    assert web_client.post(delete, data={"confirm": "yes"}).status_code == 303
+    assert logbook(web_app).get_reading(reading["id"]) is None
+    assert logbook(web_app).photos.keys() == []
+
+
+def test_editing_and_deleting_a_firing_by_form(web_app, web_client, firing_id):
+    form = {"name": "Renamed", "kind": "bisque", "kiln": "", "target_c": "1000", "target_cone": "", "started_at": "",
+            "notes": "", "status": "closed"}  # fmt: skip
+    assert web_client.post(f"/firings/{firing_id}/edit", data=form).status_code == 303
+    firing = logbook(web_app).get_firing(firing_id)
+    assert (firing["name"], firing["kind"], firing["target_c"], firing["target_cone"], firing["status"]) == (
+        "Renamed", "bisque", 1000.0, None, "closed")  # fmt: skip
+    confirm = web_client.get(f"/firings/{firing_id}/delete").get_data(as_text=True)
+    assert "Delete “Renamed”?" in confirm and "cannot be undone" in confirm
+    assert logbook(web_app).get_firing(firing_id) is not None  # asking deletes nothing
+    assert web_client.post(f"/firings/{firing_id}/delete").status_code == 303
+    assert logbook(web_app).get_firing(firing_id) is None
+    assert web_client.get(f"/firings/{firing_id}").status_code == 404
+
+
+def test_firings_area_is_in_the_top_bar(web_client):
+    assert 'href="/firings/"' in web_client.get("/").get_data(as_text=True)

@@ -1,0 +1,417 @@
+"""Firings on the web: the list, a firing's page with its curve and readings, and their JSON API.
+
+Pages (plain HTML forms, so they work without scripts and with gloves on):
+
+- ``GET /firings/`` the list and a form to start a firing; ``POST /firings/`` starts one.
+- ``GET /firings/<id>`` the curve, the climb rates, the readings, a form to take a new reading
+  straight into the firing, and forms to edit the firing or add trusted values to a reading.
+- ``POST /firings/<id>/edit``, ``/readings``, ``/readings/<rid>/edit``, ``/readings/<rid>/delete``;
+  ``GET`` and ``POST /firings/<id>/delete`` (a confirmation page, then the deletion).
+
+JSON API:
+
+- ``GET /api/firings``, ``POST /api/firings`` (JSON or form fields of a firing).
+- ``GET /api/firings/<id>`` (the firing, its readings and climb rates), ``PATCH`` (JSON of the
+  fields to change), ``DELETE``.
+- ``POST /api/firings/<id>/readings``: multipart as ``POST /api/readings`` (``photo``, optional
+  ``region``/``circle``, ``profile``) plus ``reference_c`` (or ``reference_f``), ``cone``,
+  ``cone_state``, ``note``, ``taken_at``; ``PATCH /api/firings/<id>/readings/<rid>`` edits
+  trusted values.
+- ``GET /api/firings/<id>/export.csv`` and ``export.zip``.
+
+Errors answer in plain words (JSON under /api/); nothing is stored when a request fails.
+"""
+
+from __future__ import annotations
+
+import io
+from datetime import datetime, timezone
+
+from flask import Blueprint, current_app, jsonify, redirect, render_template, request, send_file, url_for
+
+from .errors import ApiError
+
+blueprint = Blueprint("firings", __name__)
+
+SUFFIXES = {"JPEG": ".jpg", "PNG": ".png", "TIFF": ".tif"}
+LONGEST_PHOTO_NAME = 120
+RATE_WINDOWS_H = (1.0, 2.0)
+
+
+def _log():
+    return current_app.extensions["glowtemp"]["logbook"]
+
+
+def _firing(firing_id: int) -> dict:
+    firing = _log().get_firing(firing_id)
+    if firing is None:
+        raise ApiError(f"There is no firing number {firing_id}.", 404)
+    return firing
+
+
+def _reading_in(firing_id: int, reading_id: int) -> dict:
+    reading = _log().get_reading(reading_id)
+    if reading is None or reading["firing_id"] != firing_id:
+        raise ApiError(f"Firing {firing_id} has no reading number {reading_id}.", 404)
+    return reading
+
+
+def _logbook_call(call, *args, **kwargs):
+    """Run a firing-log call; its refusals become 400 answers in the same words."""
+    from glowtemp.logbook import LogbookError
+
+    try:
+        return call(*args, **kwargs)
+    except LogbookError as error:
+        raise ApiError(str(error)) from None
+
+
+def _fields() -> dict:
+    """Request fields from a JSON object or a form; empty form fields count as not given."""
+    if request.is_json:
+        body = request.get_json(silent=True)
+        if not isinstance(body, dict):
+            raise ApiError('The request body must be a JSON object such as {"name": "Cone 6 glaze"}.')
+        return body
+    return {key: value for key, value in request.form.items() if value.strip()}
+
+
+FIRING_FIELDS = ("name", "kiln", "kind", "target_c", "target_cone", "started_at", "notes", "status")
+TRUSTED_FIELDS = ("reference_c", "reference_f", "cone", "cone_state", "note", "taken_at")
+
+
+def _firing_fields(fields: dict, every_field: bool) -> dict:
+    """The firing fields of a request; a page's edit form sends them all, blanks clearing them."""
+    if "target_f" in fields and fields["target_f"] not in (None, ""):
+        fields = {**fields, "target_c": _celsius_from_f(fields["target_f"], "target temperature")}
+    chosen = {name: fields.get(name) for name in FIRING_FIELDS if name in fields or every_field}
+    if every_field:
+        needed = ("name", "kind", "status", "started_at")  # a blank box here means "leave as it is"
+        chosen = {name: value for name, value in chosen.items() if name not in needed or value}
+    return chosen
+
+
+def _celsius_from_f(value, what: str) -> float:
+    from glowtemp.scales import fahrenheit_to_celsius
+
+    try:
+        return fahrenheit_to_celsius(float(value))
+    except (TypeError, ValueError):
+        raise ApiError(f"The {what} must be a number of °F; got {value!r}.") from None
+
+
+def _trusted_fields(fields: dict) -> dict:
+    """Trusted values of a request: reference_c or reference_f, cone, cone_state, note, taken_at."""
+    trusted = {name: fields[name] for name in ("reference_c", "cone", "cone_state", "note", "taken_at") if name in fields}
+    if fields.get("reference_f") not in (None, ""):
+        if "reference_c" in fields:
+            raise ApiError("Send the thermocouple reading in °C or in °F, not both.")
+        trusted["reference_c"] = _celsius_from_f(fields["reference_f"], "thermocouple reading")
+    return trusted
+
+
+def _page_reference(fields: dict) -> dict:
+    """The page's thermocouple box (``reference`` with ``reference_unit`` c or f) as API fields."""
+    fields = {k: v for k, v in fields.items() if k not in ("reference", "reference_unit")}
+    value = request.form.get("reference", "").strip()
+    if value:
+        unit = request.form.get("reference_unit", "c")
+        fields["reference_f" if unit == "f" else "reference_c"] = value
+    return fields
+
+
+def _rates(points) -> dict:
+    from glowtemp.curve import rate_summary
+
+    return rate_summary(points, RATE_WINDOWS_H)
+
+
+def _points(firing: dict, readings: list[dict]):
+    from glowtemp.cones import cone_table
+    from glowtemp.curve import curve_points
+
+    return curve_points(firing, readings, cone_table(_log().data_dir)[0])
+
+
+def _reading_json(reading: dict) -> dict:
+    return {
+        **reading["result"],
+        "id": reading["id"],
+        "firing_id": reading["firing_id"],
+        "taken_at": reading["taken_at"],
+        "reference_c": reading["reference_c"],
+        "cone": reading["cone"],
+        "cone_state": reading["cone_state"],
+        "note": reading["note"],
+        "preview_url": url_for("api.preview", reading_id=reading["id"]),
+    }
+
+
+# Measuring an upload into a firing
+
+
+def _measure_upload(firing_id: int, fields: dict) -> int:
+    """Measure the uploaded photo, store it and the reading with its trusted values; the reading id."""
+    from glowtemp.photo import PhotoError, load_photo
+    from glowtemp.reading import measure
+    from glowtemp.region import RegionError, parse_circle, parse_region
+
+    _firing(firing_id)
+    uploads = [u for u in request.files.getlist("photo") if u.filename or u.content_length]
+    upload = uploads[0] if uploads else None
+    data = upload.read() if upload else b""
+    if not data:
+        raise ApiError("Send the photo as a file in a form field named 'photo'; take or choose it again.")
+    trusted = _trusted_fields(fields)
+    region_text, circle_text = fields.get("region", "").strip(), fields.get("circle", "").strip()
+    try:
+        region = parse_circle(circle_text) if circle_text else parse_region(region_text) if region_text else None
+        photo = load_photo(data)
+        name = ((upload.filename or "").strip() or "photo")[-LONGEST_PHOTO_NAME:]
+        result = measure(photo, region, photo_name=name, profile=_profile(fields.get("profile"))).to_dict()
+    except (PhotoError, RegionError) as error:
+        raise ApiError(str(error)) from None
+    log = _log()
+    trusted.setdefault("taken_at", photo.metadata.taken_at or datetime.now(timezone.utc))
+    key = _logbook_call(log.store_photo, data, SUFFIXES[photo.format])
+    try:
+        return _logbook_call(log.add_reading, photo_key=key, photo_name=name, result=result, firing_id=firing_id, **trusted)
+    except ApiError:
+        log.forget_unused_photos([key])
+        raise
+
+
+def _profile(name):
+    if not name:
+        return None
+    from glowtemp.profile import ProfileError
+    from glowtemp.profile_store import load_profile
+
+    try:
+        return load_profile(_log().data_dir, name)
+    except ProfileError as error:
+        raise ApiError(str(error)) from None
+
+
+def _profiles() -> list[dict]:
+    from glowtemp.profile_store import list_profiles
+
+    return list_profiles(_log().data_dir)
+
+
+# Pages
+
+
+def _unit() -> str:
+    return "f" if request.args.get("unit") == "f" else "c"
+
+
+@blueprint.get("/firings/")
+def index():
+    from glowtemp.logbook_fields import FIRING_KINDS
+
+    return render_template("firings/list.html", firings=_log().list_firings(), kinds=FIRING_KINDS, unit=_unit())
+
+
+@blueprint.post("/firings/")
+def create_page():
+    firing_id = _create_firing(_fields())
+    return redirect(url_for("firings.firing_page", firing_id=firing_id), 303)
+
+
+@blueprint.get("/firings/<int:firing_id>")
+def firing_page(firing_id: int):
+    from glowtemp.curve_chart import firing_chart_svg
+    from glowtemp.curve import firing_target_c
+    from glowtemp.cones import cone_table
+    from glowtemp.logbook_fields import CONE_STATES, FIRING_KINDS
+
+    firing = _firing(firing_id)
+    readings = _log().readings_in(firing_id)
+    points = _points(firing, readings)
+    unit = _unit()
+    target_c, target_label = firing_target_c(firing, cone_table(_log().data_dir)[0])
+    chart = firing_chart_svg(points, target_c, target_label, unit.upper())
+    hours = {p.reading_id: p.hours for p in points}
+    return render_template(
+        "firings/firing.html",
+        firing=firing,
+        readings=list(reversed(readings)),
+        hours=hours,
+        chart=chart,
+        rates=_rates(points),
+        unit=unit,
+        kinds=FIRING_KINDS,
+        cone_states=CONE_STATES,
+        profiles=_profiles(),
+    )
+
+
+@blueprint.post("/firings/<int:firing_id>/edit")
+def edit_page(firing_id: int):
+    _firing(firing_id)
+    _logbook_call(_log().update_firing, firing_id, **_firing_fields(dict(request.form), every_field=True))
+    return redirect(url_for("firings.firing_page", firing_id=firing_id, unit=_unit()), 303)
+
+
+@blueprint.post("/firings/<int:firing_id>/readings")
+def add_reading_page(firing_id: int):
+    reading_id = _measure_upload(firing_id, _page_reference(_fields()))
+    return redirect(url_for("firings.firing_page", firing_id=firing_id, unit=_unit(), _anchor=f"reading-{reading_id}"), 303)
+
+
+@blueprint.post("/firings/<int:firing_id>/readings/<int:reading_id>/edit")
+def edit_reading_page(firing_id: int, reading_id: int):
+    _reading_in(firing_id, reading_id)
+    form = _page_reference({k: v.strip() for k, v in request.form.items()})
+    trusted = _trusted_fields(form)
+    trusted.setdefault("reference_c", None)  # an emptied box clears the value
+    for name in ("cone", "cone_state", "note"):
+        trusted[name] = form.get(name) or None
+    if not form.get("taken_at"):
+        trusted.pop("taken_at", None)
+    _logbook_call(_log().update_reading, reading_id, **trusted)
+    return redirect(url_for("firings.firing_page", firing_id=firing_id, unit=_unit(), _anchor=f"reading-{reading_id}"), 303)
+
+
+@blueprint.post("/firings/<int:firing_id>/readings/<int:reading_id>/delete")
+def delete_reading_page(firing_id: int, reading_id: int):
+    _reading_in(firing_id, reading_id)
+    if request.form.get("confirm") != "yes":
+        raise ApiError("Tick 'Yes, delete this reading' to confirm; nothing was deleted.")
+    _logbook_call(_log().delete_reading, reading_id)
+    return redirect(url_for("firings.firing_page", firing_id=firing_id, unit=_unit()), 303)
+
+
+@blueprint.get("/firings/<int:firing_id>/delete")
+def confirm_delete_page(firing_id: int):
+    return render_template("firings/delete.html", firing=_firing(firing_id))
+
+
+@blueprint.post("/firings/<int:firing_id>/delete")
+def delete_page(firing_id: int):
+    _firing(firing_id)
+    _logbook_call(_log().delete_firing, firing_id)
+    return redirect(url_for("firings.index"), 303)
+
+
+# JSON API
+
+
+@blueprint.get("/api/firings")
+def api_list():
+    return jsonify(firings=_log().list_firings())
+
+
+def _create_firing(fields: dict) -> int:
+    allowed = set(FIRING_FIELDS) - {"status"} | {"target_f"}
+    unknown = sorted(set(fields) - allowed)
+    if unknown:
+        raise ApiError(f"A new firing takes {', '.join(sorted(allowed))}; not {', '.join(unknown)}.")
+    return _logbook_call(_log().create_firing, **{"name": None, **_firing_fields(fields, every_field=False)})
+
+
+@blueprint.post("/api/firings")
+def api_create():
+    firing_id = _create_firing(_fields())
+    return jsonify(_log().get_firing(firing_id)), 201
+
+
+@blueprint.get("/api/firings/<int:firing_id>")
+def api_get(firing_id: int):
+    firing = _firing(firing_id)
+    readings = _log().readings_in(firing_id)
+    rates = _rates(_points(firing, readings))
+    rates["over_last_hours_c_per_h"] = {f"{h:g}": r for h, r in rates["over_last_hours_c_per_h"].items()}
+    return jsonify(firing=firing, readings=[_reading_json(r) for r in readings], rates=rates)
+
+
+@blueprint.patch("/api/firings/<int:firing_id>")
+def api_update(firing_id: int):
+    _firing(firing_id)
+    fields = _fields()
+    if not request.is_json:
+        raise ApiError('Send the changes as a JSON object such as {"status": "closed"}.')
+    return jsonify(_logbook_call(_log().update_firing, firing_id, **fields))
+
+
+@blueprint.delete("/api/firings/<int:firing_id>")
+def api_delete(firing_id: int):
+    _firing(firing_id)
+    _logbook_call(_log().delete_firing, firing_id)
+    return "", 204
+
+
+@blueprint.post("/api/firings/<int:firing_id>/readings")
+def api_add_reading(firing_id: int):
+    reading_id = _measure_upload(firing_id, _fields())
+    return jsonify(_reading_json(_log().get_reading(reading_id))), 201
+
+
+@blueprint.patch("/api/firings/<int:firing_id>/readings/<int:reading_id>")
+def api_update_reading(firing_id: int, reading_id: int):
+    _reading_in(firing_id, reading_id)
+    if not request.is_json:
+        raise ApiError('Send the trusted values as a JSON object such as {"reference_c": 1182}.')
+    fields = _fields()
+    unknown = sorted(set(fields) - set(TRUSTED_FIELDS))
+    if unknown:
+        raise ApiError(f"A reading's trusted values are {', '.join(TRUSTED_FIELDS)}; {', '.join(unknown)} cannot be changed.")
+    trusted = _trusted_fields(fields)
+    return jsonify(_reading_json(_logbook_call(_log().update_reading, reading_id, **trusted)))
+
+
+@blueprint.get("/api/firings/<int:firing_id>/export.csv")
+def api_export_csv(firing_id: int):
+    from glowtemp.logbook_csv import firing_csv
+
+    firing = _firing(firing_id)
+    text = firing_csv(firing, _log().readings_in(firing_id))
+    return send_file(io.BytesIO(text.encode("utf-8")), mimetype="text/csv", as_attachment=True,
+                     download_name=f"firing-{firing_id}.csv")  # fmt: skip
+
+
+@blueprint.get("/api/firings/<int:firing_id>/export.zip")
+def api_export_zip(firing_id: int):
+    from glowtemp.bundle import write_bundle
+
+    _firing(firing_id)
+    out = io.BytesIO()
+    write_bundle(_log(), firing_id, out)
+    out.seek(0)
+    return send_file(out, mimetype="application/zip", as_attachment=True, download_name=f"firing-{firing_id}.zip")
+
+
+# Showing times and temperatures
+
+
+@blueprint.app_template_filter("local_time")
+def local_time(text: str | None, form: str = "%Y-%m-%d %H:%M") -> str:
+    """An ISO 8601 time shown in the server's local time zone (the studio's clock)."""
+    return "" if not text else datetime.fromisoformat(text).astimezone().strftime(form)
+
+
+@blueprint.app_template_filter("in_unit")
+def in_unit(temperature_c, unit: str = "c") -> str:
+    """A °C value as a plain number in the chosen unit (for form boxes), '' for none."""
+    from glowtemp.scales import celsius_to_fahrenheit
+
+    if temperature_c is None:
+        return ""
+    value = celsius_to_fahrenheit(temperature_c) if unit == "f" else temperature_c
+    return f"{value:.0f}" if abs(value - round(value)) < 0.05 else f"{value:.1f}"
+
+
+@blueprint.app_template_filter("degrees")
+def degrees(temperature_c, unit: str = "c") -> str:
+    """A °C value shown in the chosen unit, without more digits than it carries."""
+    return "" if temperature_c is None else f"{in_unit(temperature_c, unit)} °{unit.upper()}"
+
+
+@blueprint.app_template_filter("climb")
+def climb(rate_c_per_h, unit: str = "c") -> str:
+    """A climb rate in °C/h shown in the chosen unit per hour, with its sign."""
+    if rate_c_per_h is None:
+        return "–"
+    value = rate_c_per_h * (9 / 5 if unit == "f" else 1)
+    return f"{value:+.0f} °{unit.upper()}/h"
