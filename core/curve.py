@@ -43,16 +43,26 @@ def elapsed_hours(start: str, moment: str) -> float:
     return (datetime.fromisoformat(moment) - datetime.fromisoformat(start)).total_seconds() / SECONDS_PER_HOUR
 
 
+def curve_start(firing: dict, readings: list[dict]) -> str:
+    """Where elapsed time counts from: the firing's start, or its first photo when that is earlier
+    (a camera clock set wrong, or photos added to a firing started later)."""
+    times = [firing["started_at"]] + [r["taken_at"] for r in readings]
+    return min(times, key=datetime.fromisoformat)
+
+
 def curve_points(firing: dict, readings: list[dict], cone_temperatures_c: dict[str, float]) -> list[CurvePoint]:
     """The firing's readings (as from ``Logbook.readings_in``) as curve points, by time.
+
+    Hours count from :func:`curve_start`.
 
     ``cone_temperatures_c`` maps cone names to their approximate bending temperature
     (:func:`glowtemp.cones.cone_table`); a cone missing from it gets no height on the chart.
     """
+    start = curve_start(firing, readings)
     points = [
         CurvePoint(
             reading_id=r["id"],
-            hours=elapsed_hours(firing["started_at"], r["taken_at"]),
+            hours=elapsed_hours(start, r["taken_at"]),
             temperature_c=r["temperature_c"],
             band68_c=None if r["interval_68_c"] is None else tuple(r["interval_68_c"]),
             band95_c=None if r["interval_95_c"] is None else tuple(r["interval_95_c"]),

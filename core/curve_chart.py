@@ -91,7 +91,8 @@ def _figure(points, target_c, target_label, unit: str, title: str | None, size_i
                  width=[(h1 - h0) * 0.9 for h0, h1, _ in steps], color=RATE_COLOUR)  # fmt: skip
     rate.axhline(0, color=TARGET_COLOUR, linewidth=0.6)
     rate.set_ylabel(f"climb (°{unit}/h)")
-    rate.set_xlabel("hours since the firing started")
+    rate.set_xlabel("hours since the start")
+    rate.ticklabel_format(axis="x", useOffset=False)
     return figure
 
 

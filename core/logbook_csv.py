@@ -3,7 +3,8 @@
 Spreadsheets run a cell that starts with ``=``, ``+``, ``-``, ``@``, a tab or a carriage
 return as a formula. Following the OWASP guidance on CSV injection, such text cells get a
 leading apostrophe (shown by spreadsheets as plain text), and every text cell is quoted;
-numbers, including plain negative ones such as ``-12.5``, stay numbers.
+numbers, including plain negative ones such as ``-12.5``, stay numbers. ``elapsed_h`` counts
+from the start of the firing's curve (:func:`glowtemp.curve.curve_start`).
 
 References
 ----------
@@ -17,7 +18,7 @@ import csv
 import io
 import re
 
-from .curve import elapsed_hours
+from .curve import curve_start, elapsed_hours
 
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 PLAIN_NUMBER = re.compile(r"-?\d+(\.\d+)?")
@@ -45,13 +46,13 @@ def _band(reading, key, index):
     return None if band is None else band[index]
 
 
-def reading_row(firing: dict, reading: dict) -> list:
-    """One reading as the CSV's cells (before neutralising)."""
+def reading_row(start: str, reading: dict) -> list:
+    """One reading as the CSV's cells (before neutralising); hours count from ``start``."""
     result = reading["result"]
     return [
         reading["id"],
         reading["taken_at"],
-        round(elapsed_hours(firing["started_at"], reading["taken_at"]), 3),
+        round(elapsed_hours(start, reading["taken_at"]), 3),
         reading["photo_name"],
         reading["photo_key"].partition(".")[0],
         reading["status"],
@@ -78,6 +79,7 @@ def firing_csv(firing: dict, readings: list[dict]) -> str:
     out = io.StringIO()
     writer = csv.writer(out, quoting=csv.QUOTE_NONNUMERIC, lineterminator="\r\n")
     writer.writerow(COLUMNS)
+    start = curve_start(firing, readings)
     for reading in readings:
-        writer.writerow([neutralise_cell("" if cell is None else cell) for cell in reading_row(firing, reading)])
+        writer.writerow([neutralise_cell("" if cell is None else cell) for cell in reading_row(start, reading)])
     return out.getvalue()

@@ -82,6 +82,12 @@ def test_curve_points_in_time_order_with_cone_heights():
     assert summary["over_last_hours_c_per_h"][2.0] == pytest.approx(120.0)
 
 
+def test_hours_count_from_the_first_photo_when_it_predates_the_start():
+    early = {**FIRING, "started_at": "2024-03-01T12:30:00+00:00"}
+    points = curve_points(early, READINGS, CONES_C)
+    assert [p.hours for p in points] == [0.0, 3.0, 4.0, 5.5]  # from the 09:00 photo
+
+
 def test_target_from_temperature_or_cone():
     assert firing_target_c({"target_c": 1240.0, "target_cone": "6"}, CONES_C) == (1240.0, "target")
     assert firing_target_c(FIRING, CONES_C) == (1222.0, "target cone 6 (approximate)")
