@@ -81,7 +81,8 @@ def _near_clipped(window: np.ndarray, max_code: int) -> np.ndarray:
     Neighbours are dropped too: demosaicing and JPEG's 8 x 8 blocks spread a blown-out pixel's
     error into the pixels around it (ITU-T T.81).
     """
-    near = (window >= CLIP_FRACTION * max_code).any(axis=2)
+    limit = CLIP_FRACTION * max_code
+    near = (window[..., 0] >= limit) | (window[..., 1] >= limit) | (window[..., 2] >= limit)
     for _ in range(CLIP_REACH_PX):
         near = dilate(near)
     return near
@@ -109,10 +110,10 @@ def region_statistics(photo, region) -> RegionStatistics:
     """Mask a region of ``photo`` (a :class:`glowtemp.photo.Photo`) and summarise its usable pixels."""
     rows, cols, inside = region_window(region, photo.width, photo.height)
     window = photo.codes[rows, cols]
-    clipped = _near_clipped(window, photo.max_code)[inside]
-    codes = window[inside]
-    total = len(codes)
-    codes = codes[~clipped]
+    near_clipped = _near_clipped(window, photo.max_code)
+    total = int(inside.sum())
+    clipped_count = int((near_clipped & inside).sum())
+    codes = window[inside & ~near_clipped]
     if len(codes) > MAX_SAMPLE_PIXELS:  # an even spread of pixels is plenty (see module notes)
         codes = codes[:: int(np.ceil(len(codes) / MAX_SAMPLE_PIXELS))]
     linear = photo.linear(codes)
@@ -142,7 +143,7 @@ def region_statistics(photo, region) -> RegionStatistics:
         mean_codes=mean_codes,
         pixels_total=total,
         pixels_used=used,
-        pixels_clipped=int(clipped.sum()),
+        pixels_clipped=clipped_count,
         pixels_dark=int((~lit).sum()),
         pixels_outlier=int((~keep).sum()),
         background_level=_background_level(photo, region, float(mean[0]) if used else 0.0),
