@@ -4,7 +4,7 @@ Upper panel: the estimated temperature with its 95 % band (light) and 68 % band 
 ceilings for readings whose colour gives only an upper bound, thermocouple values as
 diamonds, witness cones as triangles at their approximate bending temperature (filled when
 bent, hollow when standing) labelled with their cone, and the target as a dashed line.
-Lower panel: the climb rate between consecutive estimates.
+Lower panel: the climb rate between consecutive estimates, as filled steps.
 
 matplotlib is imported when a chart is drawn, so nothing else pays its start-up time. Only
 the object-oriented API is used (no pyplot state), and drawing is serialised by a lock
@@ -85,10 +85,8 @@ def _figure(points, target_c, target_label, unit: str, title: str | None, size_i
         heat.text(0.5, 0.5, "no readings yet", transform=heat.transAxes, ha="center", va="center", color=TARGET_COLOUR)
 
     rates = climb_rates_c_per_h(hours, estimates_c)
-    steps = [(h0, h1, r) for h0, h1, r in zip(hours, hours[1:], rates) if r is not None]
-    if steps:
-        rate.bar([(h0 + h1) / 2 for h0, h1, _ in steps], [r * rate_scale for *_, r in steps],
-                 width=[(h1 - h0) * 0.9 for h0, h1, _ in steps], color=RATE_COLOUR)  # fmt: skip
+    if rates:  # one filled step per pair of readings (a zero-width step where two share a time)
+        rate.stairs([0.0 if r is None else r * rate_scale for r in rates], hours, fill=True, color=RATE_COLOUR)
     rate.axhline(0, color=TARGET_COLOUR, linewidth=0.6)
     rate.set_ylabel(f"climb (°{unit}/h)")
     rate.set_xlabel("hours since the start")

@@ -179,3 +179,24 @@ def test_editing_and_deleting_a_firing_by_form(web_app, web_client, firing_id):
 
 def test_firings_area_is_in_the_top_bar(web_client):
     assert 'href="/firings/"' in web_client.get("/").get_data(as_text=True)
+
+
+def test_long_firings_list_the_newest_readings_first_and_all_on_request(web_app, web_client, firing_id):
+    from datetime import datetime, timedelta, timezone
+
+    log = logbook(web_app)
+    key = log.store_photo(b"one photo for all", ".jpg")
+    start = datetime(2024, 3, 9, 6, tzinfo=timezone.utc)
+    for n in range(32):
+        result = {"status": "ok", "temperature_c": 600 + 10 * n, "interval_68_c": [590 + 10 * n, 610 + 10 * n],
+                  "interval_95_c": [580 + 10 * n, 620 + 10 * n], "temperature_f": None, "warnings": []}  # fmt: skip
+        log.add_reading(photo_key=key, photo_name=f"{n}.jpg", result=result, taken_at=start + timedelta(minutes=20 * n),
+                        firing_id=firing_id)  # fmt: skip
+    page = web_client.get(f"/firings/{firing_id}").get_data(as_text=True)
+    assert page.count('<article class="card reading"') == 30 and "Show all 32 readings" in page
+    assert page.index("31.jpg") < page.index("30.jpg")  # newest first
+    # Climb between the last two readings: 10 °C in 20 minutes is +30 °C/h.
+    assert "last step <b>+30 °C/h</b>" in page
+    everything = web_client.get(f"/firings/{firing_id}?all=1").get_data(as_text=True)
+    assert everything.count('<article class="card reading"') == 32 and "Show all" not in everything
+    assert "all=1" in everything.split('id="reading-1"')[1].split("</article>")[0]  # its forms keep the view

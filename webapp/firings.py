@@ -36,6 +36,7 @@ blueprint = Blueprint("firings", __name__)
 SUFFIXES = {"JPEG": ".jpg", "PNG": ".png", "TIFF": ".tif"}
 LONGEST_PHOTO_NAME = 120
 RATE_WINDOWS_H = (1.0, 2.0)
+READINGS_SHOWN = 30  # newest first; "show all" lists the rest
 
 
 def _log():
@@ -206,6 +207,13 @@ def _unit() -> str:
     return "f" if request.args.get("unit") == "f" else "c"
 
 
+def _back_to_firing(firing_id: int, reading_id: int | None = None):
+    """Back to the firing's page as it was shown (unit, all readings), at the reading if given."""
+    anchor = f"reading-{reading_id}" if reading_id else None
+    every = "1" if request.args.get("all") else None
+    return redirect(url_for("firings.firing_page", firing_id=firing_id, unit=_unit(), all=every, _anchor=anchor), 303)
+
+
 @blueprint.get("/firings/")
 def index():
     from glowtemp.logbook_fields import FIRING_KINDS
@@ -233,10 +241,14 @@ def firing_page(firing_id: int):
     target_c, target_label = firing_target_c(firing, cone_table(_log().data_dir)[0])
     chart = firing_chart_svg(points, target_c, target_label, unit.upper())
     hours = {p.reading_id: p.hours for p in points}
+    newest_first = list(reversed(readings))
+    show_all = bool(request.args.get("all"))
     return render_template(
         "firings/firing.html",
         firing=firing,
-        readings=list(reversed(readings)),
+        readings=newest_first if show_all else newest_first[:READINGS_SHOWN],
+        reading_count=len(readings),
+        show_all="1" if show_all else None,
         hours=hours,
         chart=chart,
         rates=_rates(points),
@@ -251,13 +263,13 @@ def firing_page(firing_id: int):
 def edit_page(firing_id: int):
     _firing(firing_id)
     _logbook_call(_log().update_firing, firing_id, **_firing_fields(dict(request.form), every_field=True))
-    return redirect(url_for("firings.firing_page", firing_id=firing_id, unit=_unit()), 303)
+    return _back_to_firing(firing_id)
 
 
 @blueprint.post("/firings/<int:firing_id>/readings")
 def add_reading_page(firing_id: int):
     reading_id = _measure_upload(firing_id, _page_reference(_fields()))
-    return redirect(url_for("firings.firing_page", firing_id=firing_id, unit=_unit(), _anchor=f"reading-{reading_id}"), 303)
+    return _back_to_firing(firing_id, reading_id)
 
 
 @blueprint.post("/firings/<int:firing_id>/readings/<int:reading_id>/edit")
@@ -271,7 +283,7 @@ def edit_reading_page(firing_id: int, reading_id: int):
     if not form.get("taken_at"):
         trusted.pop("taken_at", None)
     _logbook_call(_log().update_reading, reading_id, **trusted)
-    return redirect(url_for("firings.firing_page", firing_id=firing_id, unit=_unit(), _anchor=f"reading-{reading_id}"), 303)
+    return _back_to_firing(firing_id, reading_id)
 
 
 @blueprint.post("/firings/<int:firing_id>/readings/<int:reading_id>/delete")
@@ -280,7 +292,7 @@ def delete_reading_page(firing_id: int, reading_id: int):
     if request.form.get("confirm") != "yes":
         raise ApiError("Tick 'Yes, delete this reading' to confirm; nothing was deleted.")
     _logbook_call(_log().delete_reading, reading_id)
-    return redirect(url_for("firings.firing_page", firing_id=firing_id, unit=_unit()), 303)
+    return _back_to_firing(firing_id)
 
 
 @blueprint.get("/firings/<int:firing_id>/delete")
