@@ -1,6 +1,5 @@
 """The firing log's commands: glowtemp firings, export and import."""
 
-import io
 import json
 import zipfile
 from datetime import datetime, timezone

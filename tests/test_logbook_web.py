@@ -68,6 +68,7 @@ def test_api_reading_into_a_firing_with_trusted_values(web_app, web_client, firi
     assert body["reference_c"] == pytest.approx((1950 - 32) * 5 / 9)
     assert (body["cone"], body["cone_state"], body["note"], body["firing_id"]) == ("5", "bent", "peep", firing_id)
     assert body["status"] == "ok" and body["region"]["text"] == "0,0,150,240"
+    assert body["image"] == {"width": 320, "height": 240}  # the rendered test photo's size
     stored = logbook(web_app).get_reading(body["id"])
     assert logbook(web_app).photo_path(stored["photo_key"]).read_bytes() == two_halves_jpeg
     edited = web_client.patch(f"/api/firings/{firing_id}/readings/{body['id']}", json={"reference_c": 1066, "note": ""})

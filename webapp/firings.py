@@ -151,8 +151,10 @@ def _reading_json(reading: dict) -> dict:
 # Measuring an upload into a firing
 
 
-def _measure_upload(firing_id: int, fields: dict) -> int:
-    """Measure the uploaded photo, store it and the reading with its trusted values; the reading id."""
+def _measure_upload(firing_id: int, fields: dict):
+    """Measure the uploaded photo, store it and the reading with its trusted values.
+
+    Returns the reading id and the decoded photo."""
     from glowtemp.photo import PhotoError, load_photo
     from glowtemp.reading import measure
     from glowtemp.region import RegionError, parse_circle, parse_region
@@ -176,10 +178,11 @@ def _measure_upload(firing_id: int, fields: dict) -> int:
     trusted.setdefault("taken_at", photo.metadata.taken_at or datetime.now(timezone.utc))
     key = _logbook_call(log.store_photo, data, SUFFIXES[photo.format])
     try:
-        return _logbook_call(log.add_reading, photo_key=key, photo_name=name, result=result, firing_id=firing_id, **trusted)
+        reading_id = _logbook_call(log.add_reading, photo_key=key, photo_name=name, result=result, firing_id=firing_id, **trusted)
     except ApiError:
         log.forget_unused_photos([key])
         raise
+    return reading_id, photo
 
 
 def _profile(name):
@@ -268,7 +271,7 @@ def edit_page(firing_id: int):
 
 @blueprint.post("/firings/<int:firing_id>/readings")
 def add_reading_page(firing_id: int):
-    reading_id = _measure_upload(firing_id, _page_reference(_fields()))
+    reading_id, _ = _measure_upload(firing_id, _page_reference(_fields()))
     return _back_to_firing(firing_id, reading_id)
 
 
@@ -356,8 +359,9 @@ def api_delete(firing_id: int):
 
 @blueprint.post("/api/firings/<int:firing_id>/readings")
 def api_add_reading(firing_id: int):
-    reading_id = _measure_upload(firing_id, _fields())
-    return jsonify(_reading_json(_log().get_reading(reading_id))), 201
+    reading_id, photo = _measure_upload(firing_id, _fields())
+    body = {**_reading_json(_log().get_reading(reading_id)), "image": {"width": photo.width, "height": photo.height}}
+    return jsonify(body), 201
 
 
 @blueprint.patch("/api/firings/<int:firing_id>/readings/<int:reading_id>")
