@@ -47,7 +47,7 @@ IFD_EXIF, IFD_INTEROP = 0x8769, 0xA005
 TAG_EXPOSURE_TIME, TAG_F_NUMBER, TAG_ISO = 0x829A, 0x829D, 0x8827
 TAG_DATETIME_ORIGINAL, TAG_COLOR_SPACE, TAG_WHITE_BALANCE = 0x9003, 0xA001, 0xA403
 TAG_INTEROP_INDEX = 0x0001
-TAG_DNG_VERSION = 0xC612
+TIFF_BYTE_ORDERS = (b"II", b"MM")  # TIFF 6.0 header; a DNG is a TIFF
 
 # What a failing decoder may raise on damaged input (Pillow, tifffile, zlib; pypng's own
 # errors are translated where it is called). pypng and tifffile load only for 16-bit files.
@@ -65,7 +65,7 @@ class PhotoError(ValueError):
 class PhotoMetadata:
     """Camera settings from EXIF that matter for a glow reading (CIPA DC-008)."""
 
-    white_balance: str | None = None  # "auto" | "manual" (WhiteBalance 0 / 1)
+    white_balance: str | None = None  # "auto" | "manual" (WhiteBalance 0 / 1) | "none" (raw)
     exposure_time_s: float | None = None
     iso: int | None = None
     f_number: float | None = None
@@ -209,8 +209,6 @@ def _check_image(image: Image.Image, max_pixels: int) -> str:
         )
     if fmt not in ("JPEG", "PNG", "TIFF"):
         raise PhotoError(f"This is a {fmt} image; glowtemp reads photos saved as {READABLE}.")
-    if fmt == "TIFF" and TAG_DNG_VERSION in image.tag_v2:
-        raise PhotoError("RAW (DNG) files are not read yet; export the photo as JPEG, PNG or TIFF.")
     width, height = image.size
     if width * height > max_pixels:
         raise PhotoError(
@@ -416,6 +414,11 @@ def load_photo(source, *, max_pixels: int = 50_000_000) -> Photo:
     than ``max_pixels`` (checked from the header, before decoding) or smaller than 8 x 8.
     """
     data = _read_bytes(source)
+    if data[:2] in TIFF_BYTE_ORDERS:
+        from .raw import is_dng, load_dng  # here, not at the top: raw builds on this module
+
+        if is_dng(data):
+            return load_dng(data, max_pixels)
     image = _open(data)
     try:
         fmt = _check_image(image, max_pixels)

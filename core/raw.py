@@ -1,0 +1,339 @@
+"""Raw DNG photos: the sensor's linear data, turned into colour with the file's own matrix.
+
+A raw file keeps what the sensor recorded before white balance, the colour matrix, the tone
+curve and 8-bit quantisation, so glow's colour is not clipped by a small output gamut. The
+decode here is the plainest that keeps that:
+
+1. pixels, black and white levels and the colour filter pattern from LibRaw (rawpy);
+2. one pixel per 2 x 2 Bayer tile (superpixel demosaicing: red, the mean of the two greens,
+   blue), so the photo is read at half the sensor's width and height and no colour is
+   interpolated across edges; a tile with any photosite near its white level is clipped;
+3. linear camera RGB to CIE XYZ with the inverse of the DNG colour matrix (XYZ to camera),
+   *without* white balance: the XYZ of the light itself, not adapted to any white;
+4. XYZ to linear RGB with the ROMM RGB primaries (ISO 22028-2), whose gamut holds every
+   blackbody colour from 700 K up, stored as 16-bit linear codes.
+
+Which colour matrix: DNG files may carry two, each measured under a calibration illuminant,
+and the DNG specification interpolates between them by the scene's colour temperature
+(inverse CCT), holding the end values outside their range. Glow (below 2000 K) is warmer than
+any calibration illuminant, so that rule gives the matrix of the warmer illuminant.
+
+LibRaw does not hand out a DNG's own ColorMatrix tags (rawpy's ``color_matrix`` is already
+white-balance normalised, for sRGB output), so the tags are read with tifffile.
+
+References
+----------
+- Adobe, Digital Negative (DNG) Specification, version 1.4.0.0 (2012): chapter 4 (BlackLevel,
+  WhiteLevel, ColorMatrix1/2, CameraCalibration1/2, AnalogBalance, CalibrationIlluminant1/2)
+  and chapter 6, "Mapping Camera Color Space to CIE XYZ Space" (XYZtoCamera = AB CC CM, and
+  the interpolation of two matrices by inverse correlated colour temperature).
+- ISO 22028-2:2013, Reference output medium metric RGB (ROMM RGB): primaries and D50 white.
+- CIPA DC-008-2019 (Exif 2.32), LightSource codes used by CalibrationIlluminant.
+- ISO 12234-2:2001 (TIFF/EP): CFARepeatPatternDim and CFAPattern.
+"""
+
+from __future__ import annotations
+
+import io
+import struct
+from datetime import datetime
+
+import numpy as np
+
+from .colourspaces import D50_XY, RGBSpace
+from .estimate import UNCALIBRATED, CameraTerm
+from .photo import MIN_SIDE_PX, Photo, PhotoError, PhotoMetadata, upright
+
+RAW_SPACE = RGBSpace(
+    "Linear ROMM RGB (camera raw)", ((0.7347, 0.2653), (0.1596, 0.8404), (0.0366, 0.0001)), D50_XY
+)
+RAW_SOURCE = "dng"  # Photo.space_source for raw photos: the colour comes from the file's matrix
+MAX_CODE = 65535
+BAYER_CHANNEL = {0: 0, 1: 1, 3: 1, 2: 2}  # LibRaw colour index (3: second green) to R, G, B
+SATURATED = 250 / 255  # a photosite at or above this share of its range is clipped (as sampling)
+
+# Correlated colour temperature (K) of the EXIF LightSource codes a DNG names.
+# CIE 015:2018: A 2856 K; D50/D55/D65/D75 about 5003/5503/6504/7504 K; B and C from CIE 015
+# (4874 K, 6774 K). Generic codes (daylight, tungsten, flash, ...): common practice, from memory.
+ILLUMINANT_CCT_K = {
+    1: 5500.0, 2: 4200.0, 3: 2856.0, 4: 5500.0, 9: 5500.0, 10: 6500.0, 11: 7500.0,
+    12: 6430.0, 13: 5000.0, 14: 4150.0, 15: 3450.0, 16: 3000.0,  # fmt: skip
+    17: 2856.0, 18: 4874.0, 19: 6774.0, 20: 5503.0, 21: 6504.0, 22: 7504.0, 23: 5003.0,
+    24: 3200.0,
+}
+
+TAG_COLOR_MATRIX = (50721, 50722)
+TAG_CAMERA_CALIBRATION = (50723, 50724)
+TAG_ANALOG_BALANCE = 50727
+TAG_CALIBRATION_ILLUMINANT = (50778, 50779)
+TAG_DNG_VERSION = 50706
+PHOTOMETRIC_CFA = 32803
+TAG_EXIF_IFD = 34665
+TAG_ORIENTATION, TAG_MAKE, TAG_MODEL = 274, 271, 272
+TAG_EXPOSURE_TIME, TAG_F_NUMBER, TAG_ISO, TAG_DATETIME_ORIGINAL = 33434, 33437, 34855, 36867
+
+
+class RawError(PhotoError):
+    """A raw file glowtemp cannot decode, with the reason in plain words."""
+
+
+def _rational_values(value) -> np.ndarray:
+    """tifffile gives (S)RATIONAL arrays as flat numerator, denominator pairs."""
+    values = np.asarray(value, dtype=float).reshape(-1)
+    return values[0::2] / values[1::2]
+
+
+def is_dng(data: bytes) -> bool:
+    """Whether ``data`` is a TIFF whose IFD 0 has a DNGVersion tag (TIFF 6.0 header; DNG 1.4).
+
+    >>> is_dng(b"II*\\0" + struct.pack("<IH", 8, 1) + struct.pack("<HHII", 50706, 1, 4, 0x0104))
+    True
+    """
+    order = {b"II*\0": "<", b"MM\0*": ">"}.get(data[:4])
+    if order is None or len(data) < 8:
+        return False
+    (offset,) = struct.unpack_from(order + "I", data, 4)
+    if offset + 2 > len(data):
+        return False
+    (count,) = struct.unpack_from(order + "H", data, offset)
+    entries = data[offset + 2 : offset + 2 + 12 * count]
+    return any(
+        struct.unpack_from(order + "H", entries, 12 * index)[0] == TAG_DNG_VERSION
+        for index in range(len(entries) // 12)
+    )
+
+
+def read_dng_header(data: bytes):
+    """IFD 0 tags of a DNG by number (Exif IFD tags merged in) and the raw image's (width, height).
+
+    The raw image is IFD 0 or one of its SubIFDs (DNG 1.4, chapter 3), the one holding CFA
+    data (PhotometricInterpretation 32803); tifffile reads the header without the pixels.
+    """
+    import tifffile  # only for raw and 16-bit TIFF files
+
+    try:
+        with tifffile.TiffFile(io.BytesIO(data)) as tiff:
+            first = tiff.pages[0]
+            tags = {tag.code: tag.value for tag in first.tags.values()}
+            images = [first, *(first.pages or [])]
+            cfa = [page for page in images if page.photometric == PHOTOMETRIC_CFA]
+            size = (cfa[0].imagewidth, cfa[0].imagelength) if cfa else None
+    except (tifffile.TiffFileError, ValueError, IndexError, KeyError, OSError) as error:
+        raise RawError(f"The DNG file's header is damaged ({error}).") from error
+    if TAG_DNG_VERSION not in tags:
+        raise RawError("This TIFF file is not a DNG (it has no DNGVersion tag).")
+    if size is None:
+        raise RawError(
+            "This DNG holds no colour-filter (Bayer) raw image (it may be a demosaiced linear "
+            "DNG); glowtemp reads Bayer raw DNG files, or export the photo as JPEG or PNG."
+        )
+    exif = tags.get(TAG_EXIF_IFD)
+    for name, value in (exif.items() if isinstance(exif, dict) else ()):
+        tags.setdefault(tifffile.TIFF.TAGS.get(name, name), value)  # tifffile names them
+    return tags, size
+
+
+def xyz_to_camera(tags: dict) -> np.ndarray:
+    """The DNG's XYZ to camera matrix for glow: AB x CC x CM of the warmer calibration illuminant.
+
+    DNG 1.4 chapter 6: ``XYZtoCamera = AB * CC * CM``; with two matrices the one whose
+    CalibrationIlluminant has the lower correlated colour temperature (the interpolation's end
+    value for a scene warmer than both illuminants).
+    """
+    candidates = []
+    for index in (0, 1):
+        if TAG_COLOR_MATRIX[index] not in tags:
+            continue
+        values = _rational_values(tags[TAG_COLOR_MATRIX[index]])
+        if values.size != 9:
+            raise RawError(
+                f"The DNG's ColorMatrix{index + 1} has {values.size} values; glowtemp reads "
+                "three-colour (RGB) raw files only."
+            )
+        illuminant = int(np.ravel(tags.get(TAG_CALIBRATION_ILLUMINANT[index], 0))[0])
+        calibration = np.eye(3)
+        if TAG_CAMERA_CALIBRATION[index] in tags:
+            calibration = _rational_values(tags[TAG_CAMERA_CALIBRATION[index]]).reshape(3, 3)
+        cct = ILLUMINANT_CCT_K.get(illuminant, 5000.0)  # unknown: a mid daylight, from memory
+        candidates.append((cct, calibration @ values.reshape(3, 3)))
+    if not candidates:
+        raise RawError("The DNG has no ColorMatrix tag, so its colours cannot be known.")
+    analog = np.eye(3)
+    if TAG_ANALOG_BALANCE in tags:
+        analog = np.diag(_rational_values(tags[TAG_ANALOG_BALANCE]))
+    return analog @ min(candidates, key=lambda item: item[0])[1]
+
+
+def superpixel(visible: np.ndarray, colours: np.ndarray, black: np.ndarray, white: np.ndarray):
+    """Superpixel demosaicing of a 2 x 2 Bayer CFA to linear camera RGB at half size.
+
+    ``visible`` are the raw codes (H, W), ``colours`` the colour index of each photosite (0 red,
+    1 or 3 green, 2 blue, as LibRaw's ``raw_colors``), ``black`` and ``white`` per colour index.
+    Returns (rgb float32 (H/2, W/2, 3) with 0 = black and 1 = white level, clipped (H/2, W/2)).
+
+    >>> raw = np.array([[300, 200], [200, 100]]); idx = np.array([[0, 1], [3, 2]])
+    >>> rgb, clipped = superpixel(raw, idx, np.zeros(4), np.full(4, 400.0))
+    >>> rgb[0, 0].tolist(), bool(clipped[0, 0])
+    ([0.75, 0.5, 0.25], False)
+    """
+    height, width = (visible.shape[0] // 2) * 2, (visible.shape[1] // 2) * 2
+    tile = colours[:2, :2]
+    if sorted(BAYER_CHANNEL.get(int(i), -1) for i in tile.ravel()) != [0, 1, 1, 2]:
+        raise RawError("The raw file's colour filter is not a 2 x 2 Bayer pattern (one red, two greens, one blue).")
+    black = np.asarray(black, dtype=np.float32)
+    span = np.asarray(white, dtype=np.float32) - black
+    rgb = np.zeros((height // 2, width // 2, 3), dtype=np.float32)
+    clipped = np.zeros((height // 2, width // 2), dtype=bool)
+    for dy in (0, 1):
+        for dx in (0, 1):
+            index = int(tile[dy, dx])
+            site = visible[dy:height:2, dx:width:2].astype(np.float32) - black[index]
+            value = site / span[index]
+            clipped |= value >= SATURATED
+            channel = BAYER_CHANNEL[index]
+            rgb[:, :, channel] += value / (2.0 if channel == 1 else 1.0)
+    return rgb, clipped
+
+
+def camera_to_raw_space(xyz_to_cam: np.ndarray) -> np.ndarray:
+    """Matrix from linear camera RGB to linear :data:`RAW_SPACE` RGB (no white balance)."""
+    try:
+        camera_to_xyz = np.linalg.inv(xyz_to_cam)
+    except np.linalg.LinAlgError:
+        raise RawError("The DNG's colour matrix cannot be inverted; the file is damaged.") from None
+    return RAW_SPACE.xyz_to_rgb @ camera_to_xyz
+
+
+def encode_linear(rgb: np.ndarray, clipped: np.ndarray, to_space: np.ndarray) -> np.ndarray:
+    """Linear camera RGB to 16-bit linear codes in :data:`RAW_SPACE`; clipped tiles at full scale.
+
+    Scaled so no unclipped camera value in [0, 1] can reach full scale (the largest row sum of
+    the matrix's positive part maps to it), so full scale means clipped and nothing else.
+    """
+    headroom = float(np.clip(to_space, 0.0, None).sum(axis=1).max())
+    out = np.empty(rgb.shape, dtype=np.uint16)
+    scale = np.float32((MAX_CODE - 1) * SATURATED / headroom)
+    matrix = (to_space * scale).astype(np.float32).T
+    rows = max(1, 2**18 // max(rgb.shape[1], 1))
+    for top in range(0, rgb.shape[0], rows):
+        linear = rgb[top : top + rows] @ matrix
+        out[top : top + rows] = np.clip(np.rint(linear), 0, MAX_CODE - 1).astype(np.uint16)
+    out[clipped] = MAX_CODE
+    return out
+
+
+def decode_dng(data: bytes, tags: dict) -> np.ndarray:
+    """Linear 16-bit codes in :data:`RAW_SPACE`, (H/2, W/2, 3), as stored (not yet upright).
+
+    ``tags`` are the DNG's, from :func:`read_dng_header`. Raises :class:`RawError`.
+    """
+    import rawpy  # LibRaw: loaded only when a raw file is read
+
+    to_space = camera_to_raw_space(xyz_to_camera(tags))
+    try:
+        with rawpy.imread(io.BytesIO(data)) as raw:
+            if raw.raw_type != rawpy.RawType.Flat or raw.num_colors != 3:
+                raise RawError("This DNG is not a single-sensor Bayer raw file; glowtemp reads those only.")
+            visible = raw.raw_image_visible
+            colours = raw.raw_colors_visible
+            black = np.asarray(raw.black_level_per_channel, dtype=float)
+            white = np.asarray(raw.camera_white_level_per_channel or [raw.white_level] * 4, dtype=float)
+            rgb, clipped = superpixel(visible, colours, black, white)
+    except (rawpy.LibRawError, OSError) as error:
+        raise RawError(f"LibRaw cannot read this DNG's pixels ({error}).") from error
+    return encode_linear(rgb, clipped, to_space)
+
+
+def _value(value) -> float | None:
+    """A tag's number; tifffile gives one RATIONAL as a (numerator, denominator) tuple."""
+    if isinstance(value, (tuple, list, np.ndarray)):
+        value = np.ravel(value)
+        if value.size == 2 and value[1]:
+            value = value[0] / value[1]
+        elif value.size:
+            value = value[0]
+        else:
+            return None
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        return None
+    return number if np.isfinite(number) and number > 0 else None
+
+
+def _text(value) -> str | None:
+    if isinstance(value, bytes):
+        value = value.decode("latin-1")
+    return value.strip("\0 ").strip() or None if isinstance(value, str) else None
+
+
+def dng_metadata(tags: dict) -> PhotoMetadata:
+    """Capture settings from the DNG's Exif tags (in IFD 0 as TIFF/EP allows, or the Exif IFD).
+
+    ``white_balance`` is ``"none"``: glowtemp applies no white balance to raw data.
+    """
+    taken = _text(tags.get(TAG_DATETIME_ORIGINAL))
+    try:
+        taken_at = datetime.strptime(taken, "%Y:%m:%d %H:%M:%S") if taken else None
+    except ValueError:
+        taken_at = None
+    iso = _value(tags.get(TAG_ISO))
+    return PhotoMetadata(
+        white_balance="none",
+        exposure_time_s=_value(tags.get(TAG_EXPOSURE_TIME)),
+        iso=round(iso) if iso else None,
+        f_number=_value(tags.get(TAG_F_NUMBER)),
+        camera_make=_text(tags.get(TAG_MAKE)),
+        camera_model=_text(tags.get(TAG_MODEL)),
+        taken_at=taken_at,
+    )
+
+
+def load_dng(data: bytes, max_pixels: int) -> Photo:
+    """Decode a DNG to a :class:`glowtemp.photo.Photo` in :data:`RAW_SPACE` (see the module notes)."""
+    tags, (width, height) = read_dng_header(data)
+    if width * height > max_pixels:
+        raise RawError(
+            f"The raw image is {width} x {height} pixels ({width * height / 1e6:.0f} megapixels), "
+            f"more than the {max_pixels / 1e6:g} megapixels glowtemp accepts."
+        )
+    codes = decode_dng(data, tags)
+    if min(codes.shape[:2]) < MIN_SIDE_PX:
+        raise RawError(f"The raw image is too small; glowtemp needs at least {2 * MIN_SIDE_PX} x {2 * MIN_SIDE_PX} photosites.")
+    orientation = int(_value(tags.get(TAG_ORIENTATION)) or 1)
+    if orientation != 1:
+        codes = np.ascontiguousarray(upright(codes, orientation))
+    codes.flags.writeable = False
+    table = np.repeat(np.linspace(0.0, 1.0, MAX_CODE + 1, dtype=np.float32)[None, :], 3, axis=0)
+    return Photo(
+        codes=codes,
+        max_code=MAX_CODE,
+        space=RAW_SPACE,
+        space_source=RAW_SOURCE,
+        decode_table=table,
+        metadata=dng_metadata(tags),
+        format="DNG",
+    )
+
+
+# Uncalibrated camera term for raw photos. A DNG's matrix is fitted on a colour chart, not on
+# glow, so a camera's recorded green/red is offset + gain x ideal, like a JPEG's (see
+# glowtemp.estimate.CameraTerm). Offsets and gains of the benchmark cameras (colour-science's
+# two NPL-measured cameras and parametric ones, bench/raw_vs_jpeg.py) pivot about a green/red
+# near 0.45 (about 1500 °C): second moments about (0, 1) give these spreads and correlation;
+# the scatter about each camera's straight line stayed below 0.012.
+RAW_OFFSET_SIGMA = 0.041
+RAW_GAIN_SIGMA = 0.083
+RAW_OFFSET_GAIN_CORRELATION = -0.94
+RAW_SCATTER = 0.008
+_COVARIANCE = RAW_OFFSET_GAIN_CORRELATION * RAW_OFFSET_SIGMA * RAW_GAIN_SIGMA
+RAW_UNCALIBRATED = CameraTerm(
+    ratio_sigma=0.0,
+    green_floor=RAW_SCATTER,
+    offset_gain_covariance=((RAW_OFFSET_SIGMA**2, _COVARIANCE), (_COVARIANCE, RAW_GAIN_SIGMA**2)),
+)
+
+
+def uncalibrated_term(photo) -> CameraTerm:
+    """The camera term to use without a profile: the raw one for DNG photos, else the default."""
+    return RAW_UNCALIBRATED if photo.space is RAW_SPACE else UNCALIBRATED

@@ -1,0 +1,210 @@
+"""Raw DNG decoding: files written here with tifffile from rendered Bayer captures."""
+
+import io
+import struct
+from datetime import datetime
+
+import colour
+import numpy as np
+import pytest
+import rawpy
+
+from glowtemp.estimate import UNCALIBRATED
+from glowtemp.photo import PhotoError, load_photo, upright
+from glowtemp.profile import Pair, fit_profile
+from glowtemp.raw import (
+    RAW_SPACE,
+    RAW_UNCALIBRATED,
+    RawError,
+    read_dng_header,
+    superpixel,
+    uncalibrated_term,
+    xyz_to_camera,
+)
+from glowtemp.reading import measure
+from glowtemp.region import Circle, Rectangle
+from glowtemp.colourspaces import SRGB
+from glowtemp.synthetic import encode_jpeg, render_photo
+from glowtemp.synthetic_camera import CAMERAS, ideal_camera
+from glowtemp.synthetic_raw import BLACK_LEVEL, WHITE_LEVEL, encode_dng, render_raw
+
+SIZE = (96, 64)
+
+
+def capture(temperature_c, camera=None, **options):
+    options.setdefault("size", SIZE)
+    return render_raw(temperature_c + 273.15, camera=camera or ideal_camera(), **options)
+
+
+def with_exif_ifd(dng: bytes, tags: dict) -> bytes:
+    """The DNG with its IFD 0 ASCII ``tags`` moved into an Exif IFD (TIFF 6.0 section 2, Exif 2.32).
+
+    IFD 0 is rewritten at the end of the file without those tags and with the pointer (34665).
+    """
+    order = "<"
+    (ifd0,) = struct.unpack_from(order + "I", dng, 4)
+    (count,) = struct.unpack_from(order + "H", dng, ifd0)
+    entries = [dng[ifd0 + 2 + 12 * i : ifd0 + 14 + 12 * i] for i in range(count)]
+    entries = [e for e in entries if struct.unpack_from(order + "H", e)[0] not in tags]
+    out = bytearray(dng + b"\0" * (len(dng) % 2))
+    exif_at = len(out)
+    values = [(code, text.encode("ascii") + b"\0") for code, text in sorted(tags.items())]
+    data_at = exif_at + 2 + 12 * len(values) + 4
+    exif, blob = struct.pack(order + "H", len(values)), b""
+    for code, value in values:
+        exif += struct.pack(order + "HHII", code, 2, len(value), data_at + len(blob))
+        blob += value + b"\0" * (len(value) % 2)
+    out += exif + struct.pack(order + "I", 0) + blob
+    out += b"\0" * (len(out) % 2)
+    new_ifd0 = len(out)
+    entries.append(struct.pack(order + "HHII", 34665, 4, 1, exif_at))
+    entries.sort(key=lambda entry: struct.unpack_from(order + "H", entry)[0])
+    out += struct.pack(order + "H", len(entries)) + b"".join(entries) + struct.pack(order + "I", 0)
+    out[4:8] = struct.pack(order + "I", new_ifd0)
+    return bytes(out)
+
+
+def test_libraw_reads_the_cfa_levels_and_pattern_that_tifffile_wrote():
+    rendered = capture(1000)
+    with rawpy.imread(io.BytesIO(encode_dng(rendered))) as raw:  # LibRaw's own reading
+        assert np.array_equal(raw.raw_image_visible, rendered.cfa)
+        assert raw.black_level_per_channel == [BLACK_LEVEL] * 4
+        assert raw.white_level == WHITE_LEVEL
+        # RGGB (TIFF/EP CFAPattern 0 1 1 2): LibRaw's colour indices 0 red, 1/3 green, 2 blue
+        assert raw.raw_colors_visible[:2, :2].tolist() == [[0, 1], [3, 2]]
+        assert raw.color_desc == b"RGBG"
+
+
+def test_superpixel_averages_the_two_greens_and_flags_saturated_tiles():
+    # Hand-worked 2 x 4 mosaic, black 100, white 1100: the second tile has a saturated red.
+    codes = np.array([[600, 300, 1100, 300], [500, 200, 500, 200]])
+    colours = np.array([[0, 1, 0, 1], [3, 2, 3, 2]])
+    rgb, clipped = superpixel(codes, colours, np.full(4, 100.0), np.full(4, 1100.0))
+    assert rgb[0, 0].tolist() == pytest.approx([0.5, 0.3, 0.1])
+    assert clipped.tolist() == [[False, True]]
+
+
+def test_a_pattern_that_is_not_bayer_is_refused():
+    with pytest.raises(RawError, match="not a 2 x 2 Bayer"):
+        superpixel(np.zeros((4, 4)), np.array([[0, 0], [1, 2]] * 2), np.zeros(4), np.ones(4))
+
+
+def test_raw_space_is_romm_rgb_as_colour_science_has_it():
+    # ISO 22028-2 ROMM RGB = colour-science's "ProPhoto RGB" (matrix rounded to 4 decimals there)
+    reference = colour.RGB_COLOURSPACES["ProPhoto RGB"].matrix_RGB_to_XYZ
+    assert np.allclose(RAW_SPACE.rgb_to_xyz, reference, atol=2e-4)
+
+
+@pytest.mark.parametrize("temperature_c", [600.0, 900.0, 1300.0])
+def test_a_colorimetric_sensor_decodes_to_the_blackbody_chromaticity(temperature_c):
+    # A sensor with the CIE 1931 CMFs records XYZ itself; the decoded colour must be the
+    # blackbody's chromaticity as colour-science computes it (CIE 015:2018, Planck's law).
+    photo = load_photo(encode_dng(capture(temperature_c, scene="uniform", noise=False)))
+    mean = photo.linear(photo.codes.reshape(-1, 3)).mean(axis=0)
+    xyz = RAW_SPACE.rgb_to_xyz @ mean
+    cmfs = colour.MSDS_CMFS["CIE 1931 2 Degree Standard Observer"]
+    sd = colour.sd_blackbody(temperature_c + 273.15, cmfs.shape)
+    reference = colour.XYZ_to_xy(colour.sd_to_XYZ(sd, cmfs, method="Integration"))
+    assert xyz[:2] / xyz.sum() == pytest.approx(reference, abs=5e-4)
+    assert photo.format == "DNG" and photo.space is RAW_SPACE and photo.space_source == "dng"
+    assert (photo.width, photo.height) == (SIZE[0] // 2, SIZE[1] // 2)  # one pixel per Bayer tile
+
+
+def test_raw_measures_700_c_where_the_srgb_jpeg_of_the_same_capture_gives_only_a_ceiling():
+    # Below about 1500 K a blackbody lies outside sRGB (design notes section 3): the JPEG's green
+    # is clipped to a few codes, the raw file keeps it.
+    truth_c = 700.0
+    jpeg = render_photo(truth_c + 273.15, camera=ideal_camera(), size=SIZE, white_balance=(1.0, 1.0, 1.0))
+    raw = capture(truth_c, exposure=jpeg.exposure)
+    jpeg_reading = measure(load_photo(encode_jpeg(jpeg)))
+    photo = load_photo(encode_dng(raw))
+    reading = measure(photo, camera=uncalibrated_term(photo))
+    assert jpeg_reading.estimate.status == "upper-bound"
+    assert reading.estimate.status == "ok"
+    low, high = reading.estimate.interval_95_k
+    assert low < truth_c + 273.15 < high
+    assert high - low < 400
+
+
+@pytest.mark.parametrize("camera_name", ["Nikon 5100 (NPL)", "Sigma SDMerill (NPL)"])
+def test_raw_bands_of_measured_cameras_hold_the_rendered_truth(camera_name):
+    # colour-science's NPL-measured sensitivities; the DNG matrix is fitted on the ColorChecker.
+    for truth_c in (850.0, 1150.0):
+        photo = load_photo(encode_dng(capture(truth_c, CAMERAS[camera_name], seed=3)))
+        estimate = measure(photo, camera=uncalibrated_term(photo)).estimate
+        assert estimate.status == "ok"
+        low, high = estimate.interval_95_k
+        assert low < truth_c + 273.15 < high
+
+
+def test_the_uncalibrated_term_follows_the_photo_kind():
+    raw_photo = load_photo(encode_dng(capture(1000)))
+    jpeg_photo = load_photo(encode_jpeg(render_photo(1273.15, camera=ideal_camera(), size=SIZE)))
+    assert uncalibrated_term(raw_photo) is RAW_UNCALIBRATED
+    assert uncalibrated_term(jpeg_photo) is UNCALIBRATED
+
+
+def test_blown_out_raw_tiles_are_clipped_and_refused():
+    photo = load_photo(encode_dng(capture(1000, scene="uniform", overexpose=3.0)))
+    reading = measure(photo, Rectangle(4, 4, 30, 20), camera=uncalibrated_term(photo))
+    assert reading.statistics.pixels_clipped == reading.statistics.pixels_total
+    assert reading.estimate.status == "clipped"
+
+
+def test_orientation_turns_the_superpixel_image_upright():
+    rendered = capture(1000, scene="bar", size=(96, 64))
+    stored = load_photo(encode_dng(rendered))
+    turned = load_photo(encode_dng(rendered, orientation=6))  # TIFF 6.0 Orientation 6: 0th row on the right
+    assert (turned.width, turned.height) == (stored.height, stored.width)
+    assert np.array_equal(turned.codes, upright(stored.codes, 6))
+
+
+def test_capture_settings_come_from_ifd0_or_the_exif_ifd():
+    taken = datetime(2025, 5, 17, 21, 4, 9)
+    rendered = capture(1000, iso=200, taken_at=taken)
+    photo = load_photo(encode_dng(rendered))
+    meta = photo.metadata
+    assert meta.taken_at == taken and meta.iso == 200
+    assert meta.exposure_time_s == pytest.approx(rendered.exposure_time_s, rel=1e-4)
+    assert (meta.camera_make, meta.camera_model) == ("glowtemp demo", ideal_camera().name)
+    assert meta.white_balance == "none"  # no white balance is applied to raw data
+    # Phones put DateTimeOriginal in the Exif IFD (CIPA DC-008 tag 0x9003) rather than IFD 0.
+    later = with_exif_ifd(encode_dng(rendered), {36867: "2025:05:18 06:30:00"})
+    assert load_photo(later).metadata.taken_at == datetime(2025, 5, 18, 6, 30)
+
+
+def test_the_warmer_calibration_illuminant_s_matrix_is_used_whatever_the_order():
+    # DNG 1.4 chapter 6: interpolation by inverse CCT, held at the end values; glow is warmer
+    # than CIE illuminant A (EXIF LightSource 17) and D65 (21).
+    rendered = capture(1000, CAMERAS["Nikon 5100 (NPL)"])
+    tags, size = read_dng_header(encode_dng(rendered))
+    assert size == SIZE
+    matrix_a = dict(rendered.xyz_to_camera)[17]
+    assert np.allclose(xyz_to_camera(tags), matrix_a, atol=1e-5)
+    swapped = dict(tags)
+    swapped[50721], swapped[50722] = tags[50722], tags[50721]
+    swapped[50778], swapped[50779] = tags[50779], tags[50778]
+    assert np.allclose(xyz_to_camera(swapped), matrix_a, atol=1e-5)
+    assert np.allclose(xyz_to_camera({50721: tags[50722], 50778: 21}), dict(rendered.xyz_to_camera)[21], atol=1e-5)
+
+
+def test_a_dng_without_colour_matrix_is_refused_in_plain_words():
+    tags, _ = read_dng_header(encode_dng(capture(1000)))
+    del tags[50721], tags[50722]
+    with pytest.raises(RawError, match="no ColorMatrix"):
+        xyz_to_camera(tags)
+
+
+def test_a_truncated_dng_is_a_photo_error():
+    data = encode_dng(capture(1000))
+    with pytest.raises(PhotoError, match="DNG"):
+        load_photo(data[: len(data) // 3])
+
+
+def test_a_profile_made_from_jpegs_is_not_applied_to_a_raw_photo():
+    # Raw and JPEG readings of one camera need separate profiles: their colour spaces differ.
+    profile = fit_profile("phone jpeg", [Pair("a.jpg", 0.05, 0.002, 1100.0, 5.0)], SRGB, {}, "test")
+    photo = load_photo(encode_dng(capture(1100)))
+    reading = measure(photo, Circle(24, 16, 8), camera=uncalibrated_term(photo), profile=profile)
+    assert reading.profile is None
+    assert "profile-not-applied" in [w.code for w in reading.warnings]
