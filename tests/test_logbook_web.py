@@ -201,3 +201,16 @@ def test_long_firings_list_the_newest_readings_first_and_all_on_request(web_app,
     everything = web_client.get(f"/firings/{firing_id}?all=1").get_data(as_text=True)
     assert everything.count('<article class="card reading"') == 32 and "Show all" not in everything
     assert "all=1" in everything.split('id="reading-1"')[1].split("</article>")[0]  # its forms keep the view
+
+
+def test_profile_from_a_firing_in_one_step(web_app, web_client, firing_id, two_halves_jpeg):
+    from conftest import LEFT_HALF_C
+
+    # The left half of the test photo was rendered at LEFT_HALF_C: that is its trusted value.
+    upload(web_client, firing_id, two_halves_jpeg, region="10,10,130,220", reference_c=str(LEFT_HALF_C))
+    page = web_client.get(f"/firings/{firing_id}").get_data(as_text=True)
+    assert "Make a camera profile from 1 trusted reading" in page
+    made = web_client.post(f"/firings/{firing_id}/profile", data={"name": "web-cam"})
+    assert made.status_code == 200 and "Camera profile “web-cam” made" in made.get_data(as_text=True)
+    refused = web_client.post(f"/firings/{firing_id}/profile", data={"name": ""})
+    assert refused.status_code == 400 and "No profile was made" in refused.get_data(as_text=True)

@@ -5,7 +5,8 @@ Pages (plain HTML forms, so they work without scripts and with gloves on):
 - ``GET /firings/`` the list and a form to start a firing; ``POST /firings/`` starts one.
 - ``GET /firings/<id>`` the curve, the climb rates, the readings, a form to take a new reading
   straight into the firing, and forms to edit the firing or add trusted values to a reading.
-- ``POST /firings/<id>/edit``, ``/readings``, ``/readings/<rid>/edit``, ``/readings/<rid>/delete``;
+- ``POST /firings/<id>/edit``, ``/readings``, ``/readings/<rid>/edit``, ``/readings/<rid>/delete``,
+  ``/profile`` (a camera profile from the firing's trusted readings, in one step);
   ``GET`` and ``POST /firings/<id>/delete`` (a confirmation page, then the deletion).
 
 JSON API:
@@ -236,6 +237,7 @@ def firing_page(firing_id: int):
     from glowtemp.curve import firing_target_c
     from glowtemp.cones import cone_table
     from glowtemp.logbook_fields import CONE_STATES, FIRING_KINDS
+    from glowtemp.logbook_pairs import calibration_pairs
 
     firing = _firing(firing_id)
     readings = _log().readings_in(firing_id)
@@ -259,6 +261,7 @@ def firing_page(firing_id: int):
         kinds=FIRING_KINDS,
         cone_states=CONE_STATES,
         profiles=_profiles(),
+        pair_count=len(calibration_pairs(readings)),
     )
 
 
@@ -296,6 +299,19 @@ def delete_reading_page(firing_id: int, reading_id: int):
         raise ApiError("Tick 'Yes, delete this reading' to confirm; nothing was deleted.")
     _logbook_call(_log().delete_reading, reading_id)
     return _back_to_firing(firing_id)
+
+
+@blueprint.post("/firings/<int:firing_id>/profile")
+def make_profile_page(firing_id: int):
+    from glowtemp.logbook_pairs import fit_profile_from_firing
+    from glowtemp.profile import ProfileError
+
+    firing = _firing(firing_id)
+    try:
+        profile = fit_profile_from_firing(_log(), firing_id, request.form.get("name", "").strip())
+    except ProfileError as error:
+        raise ApiError(f"No profile was made: {error}") from None
+    return render_template("firings/profile.html", firing=firing, profile=profile.to_dict(), unit=_unit())
 
 
 @blueprint.get("/firings/<int:firing_id>/delete")

@@ -1,0 +1,62 @@
+"""A camera profile in one step from a firing's trusted readings (rendered photos, known truth)."""
+
+from datetime import datetime, timedelta, timezone
+
+import pytest
+
+from glowtemp.logbook import Logbook
+from glowtemp.logbook_pairs import calibration_pairs, fit_profile_from_firing
+from glowtemp.photo import load_photo
+from glowtemp.profile import ProfileError
+from glowtemp.profile_store import list_profiles
+from glowtemp.reading import measure
+from glowtemp.synthetic import encode_jpeg, render_photo
+from glowtemp.synthetic_camera import CAMERAS
+
+NIKON = CAMERAS["Nikon 5100 (NPL)"]  # colour-science's NPL-measured camera sensitivities
+START = datetime(2024, 3, 9, 8, tzinfo=timezone.utc)
+
+
+def add_rendered(log, firing_id, temperature_c, seed, **trusted):
+    """A spy-hole photo rendered at a known temperature, measured and logged."""
+    data = encode_jpeg(render_photo(temperature_c + 273.15, camera=NIKON, size=(160, 120), seed=seed))
+    result = measure(load_photo(data), photo_name=f"{temperature_c}.jpg").to_dict()
+    key = log.store_photo(data, ".jpg")
+    return log.add_reading(photo_key=key, photo_name=f"{temperature_c}.jpg", result=result, firing_id=firing_id,
+                           taken_at=START + timedelta(hours=seed), **trusted)  # fmt: skip
+
+
+@pytest.fixture
+def log(tmp_path):
+    with Logbook(tmp_path / "data") as book:
+        yield book
+
+
+def test_trusted_readings_make_a_profile(log):
+    firing_id = log.create_firing(name="Calibration firing")
+    for seed, temperature_c in enumerate((850, 1000, 1150)):
+        add_rendered(log, firing_id, temperature_c, seed, reference_c=temperature_c)  # rendered truth as reference
+    add_rendered(log, firing_id, 1200, 5, cone="6", cone_state="standing")  # a standing cone proves nothing
+    add_rendered(log, firing_id, 1100, 6)  # no trusted value
+    assert len(calibration_pairs(log.readings_in(firing_id))) == 3
+    profile = fit_profile_from_firing(log, firing_id, "studio-nikon").to_dict()
+    assert len(profile["pairs"]) == 3
+    assert profile["span_c"] == pytest.approx([850, 1150])
+    assert [p["name"] for p in list_profiles(log.data_dir)] == ["studio-nikon"]
+
+
+def test_bent_cone_counts_and_thermocouple_wins_when_both(log):
+    firing_id = log.create_firing(name="Cones")
+    bent = add_rendered(log, firing_id, 1000, 1, cone="06", cone_state="bent")
+    both = add_rendered(log, firing_id, 1100, 2, reference_c=1102, cone="02", cone_state="bent")
+    rows = {row["photo"]: row for row in calibration_pairs(log.readings_in(firing_id))}
+    assert rows[f"reading-{bent}.jpg"]["cone"] == "06" and rows[f"reading-{bent}.jpg"]["reference_c"] == ""
+    assert rows[f"reading-{both}.jpg"]["reference_c"] == "1102.0" and rows[f"reading-{both}.jpg"]["cone"] == ""
+
+
+def test_no_trusted_reading_no_profile(log):
+    firing_id = log.create_firing(name="Plain")
+    add_rendered(log, firing_id, 1000, 1)
+    with pytest.raises(ProfileError, match="no reading with a thermocouple value"):
+        fit_profile_from_firing(log, firing_id, "x")
+    assert list_profiles(log.data_dir) == []
