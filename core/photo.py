@@ -6,7 +6,10 @@ taken from the embedded ICC profile, from EXIF, or assumed sRGB. Linearising any
 is then one fancy-index, ``decode_table[channel, code]``.
 
 Pillow reads JPEG, PNG and TIFF, their ICC profiles and EXIF. Pillow reduces 16-bit RGB to
-8 bits, so 16-bit PNG pixels are read with pypng and 16-bit TIFF pixels with tifffile.
+8 bits, so 16-bit PNG pixels are read with pypng and 16-bit TIFF pixels with tifffile. HEIC
+(HEIF with HEVC, what many phones save) is read through Pillow with pillow-heif (libheif),
+which turns the image upright by the file's own transforms and keeps ICC profile and EXIF;
+raw DNG files go to :mod:`glowtemp.raw`.
 
 References
 ----------
@@ -17,6 +20,7 @@ References
   InteroperabilityIndex "R03" marks Adobe RGB (1998) files.
 - IEC 61966-2-1:1999 (sRGB) and Adobe RGB (1998) Color Image Encoding (gamma 563/256).
 - ICC.1:2010, see :mod:`glowtemp.icc`.
+- ISO/IEC 23008-12:2017 (HEIF) and ITU-T H.273 (2016) colour code points (nclx).
 """
 
 from __future__ import annotations
@@ -28,15 +32,16 @@ import struct
 import zlib
 from dataclasses import dataclass
 from datetime import datetime
+from functools import lru_cache
 from pathlib import Path
 
 import numpy as np
 from PIL import Image, UnidentifiedImageError
 
-from .colourspaces import ADOBE_RGB, SRGB, RGBSpace, gamma_decode, srgb_decode
+from .colourspaces import ADOBE_RGB, DISPLAY_P3, SRGB, RGBSpace, gamma_decode, srgb_decode
 from .icc import IccError, parse_icc_profile
 
-READABLE = "JPEG, PNG or TIFF"
+READABLE = "JPEG, PNG, TIFF, HEIC or DNG"
 MIN_SIDE_PX = 8
 ADOBE_RGB_GAMMA = 563 / 256  # Adobe RGB (1998) Color Image Encoding, section 4.3.1.2
 STRIP_BYTES = 2 << 20  # Pillow pixels are copied out in strips of about this size
@@ -176,9 +181,21 @@ def _read_bytes(source) -> bytes:
     return data
 
 
+@lru_cache(maxsize=1)
+def _heif_opener() -> None:
+    """Teach Pillow HEIF (pillow-heif, libheif); loaded only when a file looks like one."""
+    import pillow_heif
+
+    pillow_heif.register_heif_opener()
+
+
 def _open(data: bytes) -> Image.Image:
+    formats = ("JPEG", "PNG", "TIFF", "GIF", "WEBP")
+    if data[4:8] == b"ftyp":  # ISO/IEC 14496-12 file type box: HEIF, AVIF, MP4, ...
+        _heif_opener()
+        formats += ("HEIF",)
     try:
-        return Image.open(io.BytesIO(data), formats=("JPEG", "PNG", "TIFF", "GIF", "WEBP"))
+        return Image.open(io.BytesIO(data), formats=formats)
     except Image.DecompressionBombError as error:
         raise PhotoError(
             "The image is far too large to be a photo (its header claims more than "
@@ -187,8 +204,9 @@ def _open(data: bytes) -> Image.Image:
     except UnidentifiedImageError as error:
         if data[4:8] == b"ftyp":
             raise PhotoError(
-                "This looks like a HEIC/HEIF or AVIF photo, which glowtemp cannot read yet; "
-                "export it as JPEG (or set the camera to save JPEG)."
+                "This looks like a HEIC/HEIF, AVIF or video file that glowtemp cannot decode "
+                "(AVIF and videos are not read, or the HEIC file is damaged); export the photo "
+                "as JPEG (or set the camera to save JPEG)."
             ) from error
         raise PhotoError(f"This file is not an image glowtemp can read ({READABLE}).") from error
     except DECODER_FAILURES as error:
@@ -197,9 +215,11 @@ def _open(data: bytes) -> Image.Image:
 
 def _check_image(image: Image.Image, max_pixels: int) -> str:
     """Refuse what glowtemp cannot use before decoding any pixels; return the format name."""
-    fmt = "JPEG" if image.format == "MPO" else image.format  # MPO: JPEG plus extra pictures
+    # MPO: JPEG plus extra pictures; HEIF: the primary image is the photo (others are bursts
+    # or edits), read as HEIC, the HEVC-coded HEIF that phones save (ISO/IEC 23008-12).
+    fmt = {"MPO": "JPEG", "HEIF": "HEIC"}.get(image.format, image.format)
     try:
-        frames = 1 if image.format == "MPO" else getattr(image, "n_frames", 1)
+        frames = 1 if image.format in ("MPO", "HEIF") else getattr(image, "n_frames", 1)
     except DECODER_FAILURES as error:
         raise PhotoError(f"The image's frame list is damaged ({error}).") from error
     if frames > 1:
@@ -207,7 +227,7 @@ def _check_image(image: Image.Image, max_pixels: int) -> str:
             f"This {image.format} file holds {frames} frames (an animation or several pages); "
             "glowtemp reads one still photo: export the photo alone as JPEG or PNG."
         )
-    if fmt not in ("JPEG", "PNG", "TIFF"):
+    if fmt not in ("JPEG", "PNG", "TIFF", "HEIC"):
         raise PhotoError(f"This is a {fmt} image; glowtemp reads photos saved as {READABLE}.")
     width, height = image.size
     if width * height > max_pixels:
@@ -382,14 +402,25 @@ def _as_phrase(error: Exception) -> str:
     return text[:1].lower() + text[1:]
 
 
-def _colour_encoding(icc_bytes, exif_ifd: dict, interop: dict, max_code: int):
-    """(space, space_source, decode_table, profile_problem) from the ICC profile or EXIF."""
+def _cicp_space(nclx) -> RGBSpace | None:
+    """The space named by HEIF colour information (nclx): ITU-T H.273 ColourPrimaries 1 (BT.709,
+    the sRGB primaries) or 12 (SMPTE EG 432-1, P3 with D65) with TransferCharacteristics 13
+    (IEC 61966-2-1 sRGB curve); None for anything else."""
+    if not isinstance(nclx, dict) or nclx.get("transfer_characteristics") != 13:
+        return None
+    return {1: SRGB, 12: DISPLAY_P3}.get(nclx.get("color_primaries"))
+
+
+def _colour_encoding(icc_bytes, exif_ifd: dict, interop: dict, max_code: int, nclx=None):
+    """(space, space_source, decode_table, profile_problem) from the ICC profile, HEIF nclx or EXIF."""
     if icc_bytes:
         try:
             profile = parse_icc_profile(icc_bytes)
         except IccError as error:
             return SRGB, "assumed", _curve_table(srgb_decode, max_code), _as_phrase(error)
         return profile.rgb_space, "icc", profile.decode_table(max_code), None
+    if _cicp_space(nclx) is not None:
+        return _cicp_space(nclx), "cicp", _curve_table(srgb_decode, max_code), None
     colour_space = exif_ifd.get(TAG_COLOR_SPACE)
     if colour_space == 1:  # Exif ColorSpace: 1 = sRGB
         return SRGB, "exif", _curve_table(srgb_decode, max_code), None
@@ -403,11 +434,12 @@ def _colour_encoding(icc_bytes, exif_ifd: dict, interop: dict, max_code: int):
 
 
 def load_photo(source, *, max_pixels: int = 50_000_000) -> Photo:
-    """Decode a JPEG, PNG or TIFF photo to upright integer codes and a linearisation table.
+    """Decode a JPEG, PNG, TIFF, HEIC or DNG photo to upright integer codes and a linearisation table.
 
     ``source`` is a path, the file's bytes, or a binary file object; the type is decided by
     content, not by name. EXIF orientation is applied, alpha dropped, greyscale repeated into
-    three channels and palettes expanded. 16-bit PNG and TIFF keep their 16-bit codes.
+    three channels and palettes expanded. 16-bit PNG and TIFF keep their 16-bit codes. DNG
+    files become 16-bit linear codes at half the sensor size (see :mod:`glowtemp.raw`).
 
     Raises :class:`PhotoError` with a plain-words reason for anything that is not a usable
     still photo: empty, truncated, damaged, not an image, CMYK, animated or multi-page, larger
@@ -423,6 +455,7 @@ def load_photo(source, *, max_pixels: int = 50_000_000) -> Photo:
     try:
         fmt = _check_image(image, max_pixels)
         icc_bytes = image.info.get("icc_profile")
+        nclx = image.info.get("nclx_profile")  # HEIF colour information without an ICC profile
         codes = _pixels(image, data, fmt)
         base, exif_ifd, interop = _exif(image)  # after the pixels: Pillow finds PNG eXIf late
     finally:
@@ -432,7 +465,7 @@ def load_photo(source, *, max_pixels: int = 50_000_000) -> Photo:
     if orientation != 1:
         codes = np.ascontiguousarray(upright(codes, orientation))
     codes.flags.writeable = False
-    space, space_source, table, problem = _colour_encoding(icc_bytes, exif_ifd, interop, max_code)
+    space, space_source, table, problem = _colour_encoding(icc_bytes, exif_ifd, interop, max_code, nclx)
     return Photo(
         codes=codes,
         max_code=max_code,

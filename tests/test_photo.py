@@ -351,7 +351,7 @@ def test_empty_truncated_and_damaged_files_are_refused(tmp_path):
 
 
 def test_things_that_are_not_photos_are_refused():
-    expected = "not an image glowtemp can read (JPEG, PNG or TIFF)"
+    expected = "not an image glowtemp can read (JPEG, PNG, TIFF, HEIC or DNG)"
     assert expected in refusal(b"Kiln log: cone 6 at 10:40\n" * 20)
     assert expected in refusal(b"%PDF-1.7\n1 0 obj << /Type /Catalog >> endobj\n" * 10)
     assert "GIF" in refusal(saved(random_rgb(), "GIF"))
