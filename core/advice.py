@@ -149,12 +149,16 @@ def outside_profile_span(span_c) -> Advice:
     )
 
 
-def profile_camera_mismatch(profile_model, photo_model) -> Advice:
+def profile_camera_mismatch(made_with, taken_with) -> Advice:
+    def said(settings):
+        model, white_balance = settings
+        return f"{model or 'an unnamed camera'} ({white_balance or 'unknown'} white balance)"
+
     return Advice(
         "profile-camera-mismatch",
-        f"The profile was made with {profile_model or 'an unnamed camera'}, but this photo comes "
-        f"from {photo_model or 'an unnamed camera'}; the correction may not fit.",
-        "Choose the profile made with this camera, or make one for it.",
+        f"The profile was made with {said(made_with)}, but this photo comes from "
+        f"{said(taken_with)}; the correction may not carry over, so the band has been widened.",
+        "Choose the profile made with this camera and setting, or make one for it.",
     )
 
 

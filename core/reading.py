@@ -6,7 +6,7 @@ none of them computes physics of its own.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -155,15 +155,24 @@ def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -
 
 
 def _profile_camera(profile, photo):
-    """The camera term a profile gives for this photo (None if it does not apply) and its advice."""
+    """The camera term a profile gives for this photo (None if it does not apply) and its advice.
+
+    A photo from another camera model or white-balance setting gets the profile's map with the
+    uncalibrated camera spread added, since the map may not carry over.
+    """
     if profile.colour_space != photo.space.name:
         return None, [advice.profile_space_mismatch(profile.colour_space, photo.space.name)]
-    notes = []
-    if profile.camera.get("camera_model") != photo.metadata.camera_model:
-        notes.append(
-            advice.profile_camera_mismatch(profile.camera.get("camera_model"), photo.metadata.camera_model)
-        )
-    return profile.camera_term(), notes
+    camera = profile.camera_term()
+    made_with = (profile.camera.get("camera_model"), profile.camera.get("white_balance"))
+    taken_with = (photo.metadata.camera_model, photo.metadata.white_balance)
+    if made_with == taken_with:
+        return camera, []
+    widened = replace(
+        camera,
+        green_floor=float(np.hypot(camera.green_floor, UNCALIBRATED.green_floor)),
+        ratio_sigma=UNCALIBRATED.ratio_sigma,
+    )
+    return widened, [advice.profile_camera_mismatch(made_with, taken_with)]
 
 
 def measure(

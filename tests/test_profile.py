@@ -187,8 +187,11 @@ def test_users_cone_chart_replaces_the_shipped_table(tmp_path):
 def test_other_camera_is_warned_and_other_colour_space_is_not_applied(three_pair_profile):
     profile, data, folder = three_pair_profile
     sigma = load_photo(shoot(folder, "s.jpg", 1000, seed=5, camera=CAMERAS["Sigma SDMerill (NPL)"]))
-    codes = [w["code"] for w in measure(sigma, profile=profile).to_dict()["warnings"]]
-    assert "profile-camera-mismatch" in codes
+    other = measure(sigma, profile=profile).to_dict()
+    assert "profile-camera-mismatch" in [w["code"] for w in other["warnings"]]
+    own = measure(load_photo(shoot(folder, "n.jpg", 1000, seed=5)), profile=profile).to_dict()
+    width = lambda r: r["interval_95_c"][1] - r["interval_95_c"][0]  # noqa: E731
+    assert width(other) > 2 * width(own)
     p3 = load_photo(shoot(folder, "p3.jpg", 1000, seed=6, output_space=DISPLAY_P3))
     result = measure(p3, profile=profile).to_dict()
     assert result["profile"] is None
