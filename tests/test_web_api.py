@@ -222,3 +222,59 @@ def test_unexpected_failure_answers_plain_words_without_details(web_client, two_
     text = response.get_data(as_text=True)
     assert "secret internal detail" not in text and "Traceback" not in text
     assert "went wrong" in response.get_json()["error"]
+
+
+# --- camera profiles -------------------------------------------------------------------------
+
+# Demo photos rendered with a plain sRGB tone curve, with the temperature they were rendered at (truth.csv).
+PROFILE_PHOTOS = ("alder_lane_1000_760C.jpg", "alder_lane_1100_870C.jpg", "alder_lane_1500_1240C.jpg")
+
+
+@pytest.fixture
+def profiled_app(web_app):
+    import csv
+
+    from conftest import DEMO_IMAGES
+
+    from glowtemp.profile_store import fit_from_csv
+
+    truth = {row["file"]: row["true_c"] for row in csv.DictReader(open(DEMO_IMAGES / "truth.csv"))}
+    pairs = web_app.config["DATA_DIR"] / "pairs.csv"
+    pairs.write_text("photo,reference_c\n" + "".join(f"{DEMO_IMAGES / name},{truth[name]}\n" for name in PROFILE_PHOTOS))
+    fit_from_csv("kiln phone", pairs, web_app.config["DATA_DIR"])
+    return web_app
+
+
+def test_profiles_are_listed_with_a_label(profiled_app):
+    listed = profiled_app.test_client().get("/api/profiles").get_json()["profiles"]
+    assert [p["name"] for p in listed] == ["kiln phone"]
+    assert listed[0]["pairs"] == len(PROFILE_PHOTOS)
+    assert "kiln phone" in listed[0]["label"] and "3 pairs" in listed[0]["label"]
+
+
+def test_no_profiles_listed_in_an_empty_data_folder(web_client):
+    assert web_client.get("/api/profiles").get_json() == {"profiles": []}
+
+
+def test_a_chosen_profile_is_applied_on_upload_and_on_region(profiled_app):
+    from conftest import DEMO_IMAGES
+
+    from glowtemp.profile_store import load_profile
+
+    client = profiled_app.test_client()
+    data = (DEMO_IMAGES / "alder_lane_1100_870C.jpg").read_bytes()
+    body = post_photo(client, data, profile="kiln phone").get_json()
+    profile = load_profile(profiled_app.config["DATA_DIR"], "kiln phone")
+    expected = measure(load_photo(data), photo_name="glow.jpg", profile=profile).to_dict()
+    assert {k: v for k, v in body.items() if k not in WEB_ONLY_KEYS} == expected
+    assert body["profile"] == "kiln phone"
+    # The profile was fitted on pairs that include this photo's rendered 870 °C.
+    assert body["interval_95_c"][0] <= 870 <= body["interval_95_c"][1]
+    again = client.post(f"/api/readings/{body['id']}/region",
+                        json={"region": body["region"]["text"], "profile": ""}).get_json()
+    assert again["profile"] is None
+
+
+def test_unknown_profile_is_refused(web_app, web_client, two_halves_jpeg):
+    response = post_photo(web_client, two_halves_jpeg, profile="no such camera")
+    assert_refused(response, 400, "no camera profile called", web_app)

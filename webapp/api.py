@@ -1,14 +1,15 @@
 """The JSON API used by the measuring page and by scripts.
 
 - ``POST /api/readings``: multipart ``photo`` (a JPEG, PNG or TIFF file), optional ``region``
-  (``X,Y,W,H`` or ``circle:CX,CY,R``) or ``circle`` (``CX,CY,R``).
-  Measures, stores the photo and the reading in the firing log, answers 201 with the reading's
-  JSON form (as ``glowtemp measure --json``) plus ``id``, ``image`` {width, height} and
-  ``preview_url``.
+  (``X,Y,W,H`` or ``circle:CX,CY,R``) or ``circle`` (``CX,CY,R``), optional ``profile`` (a
+  stored camera profile's name). Measures, stores the photo and the reading in the firing
+  log, answers 201 with the reading's JSON form (as ``glowtemp measure --json``) plus ``id``,
+  ``image`` {width, height} and ``preview_url``.
 - ``POST /api/readings/<id>/region``: the same fields as JSON or a form, without ``photo``;
   measures the stored photo again and replaces the stored result.
 - ``GET /api/readings/<id>/preview``: the stored photo, upright and reduced, as a JPEG.
 - ``GET /api/scale``: blackbody colours along a temperature scale, for painting.
+- ``GET /api/profiles``: the stored camera profiles, for the picker.
 
 Errors answer ``{"error": message}`` with a 4xx status; nothing is stored when a request fails.
 """
@@ -28,8 +29,8 @@ SUFFIXES = {"JPEG": ".jpg", "PNG": ".png", "TIFF": ".tif"}
 PREVIEW_LONG_SIDE_PX = 1600
 LONGEST_PHOTO_NAME = 120
 SCALE_FROM_C, SCALE_TO_C, SCALE_STEP_C = 400, 1600, 25
-TICKS_C = (400, 600, 800, 1000, 1200, 1400, 1600)
-TICKS_F = (800, 1200, 1600, 2000, 2400, 2800)
+TICKS_C = (400, 700, 1000, 1300, 1600)
+TICKS_F = (800, 1400, 2000, 2600)
 
 
 def _services():
@@ -61,12 +62,26 @@ def _region(fields: dict):
         raise ApiError(str(error)) from None
 
 
-def _measure(photo, region, photo_name: str) -> dict:
+def _profile(fields: dict):
+    """The camera profile asked for by name, or None for the uncalibrated estimate."""
+    name = fields.get("profile", "").strip()
+    if not name:
+        return None
+    from glowtemp.profile import ProfileError
+    from glowtemp.profile_store import load_profile
+
+    try:
+        return load_profile(current_app.config["DATA_DIR"], name)
+    except ProfileError as error:
+        raise ApiError(str(error)) from None
+
+
+def _measure(photo, region, profile, photo_name: str) -> dict:
     from glowtemp.reading import measure
     from glowtemp.region import RegionError
 
     try:
-        return measure(photo, region, photo_name=photo_name).to_dict()
+        return measure(photo, region, photo_name=photo_name, profile=profile).to_dict()
     except RegionError as error:
         if region is None:
             raise ApiError(str(error), 422, draw_region=True) from None
@@ -99,13 +114,13 @@ def create_reading():
     if not data:
         raise ApiError("The photo file is empty; take or choose the photo again.")
     fields = _fields()
-    region = _region(fields)
+    region, profile = _region(fields), _profile(fields)
     try:
         photo = load_photo(data)
     except PhotoError as error:
         raise ApiError(str(error)) from None
     name = _photo_name(upload)
-    result = _measure(photo, region, name)
+    result = _measure(photo, region, profile, name)
     services = _services()
     logbook = services["logbook"]
     key = logbook.store_photo(data, SUFFIXES[photo.format])
@@ -134,11 +149,11 @@ def _stored(reading_id: int):
 @blueprint.post("/readings/<int:reading_id>/region")
 def measure_region(reading_id: int):
     fields = _fields()
-    region = _region(fields)
+    region, profile = _region(fields), _profile(fields)
     if region is None:
         raise ApiError("Send the new region as 'region' (X,Y,W,H or circle:CX,CY,R) or 'circle' (CX,CY,R).")
     stored, photo = _stored(reading_id)
-    result = _measure(photo, region, stored["photo_name"])
+    result = _measure(photo, region, profile, stored["photo_name"])
     _services()["logbook"].update_reading_result(reading_id, result)
     return _answer(result, reading_id, photo, 200)
 
@@ -175,3 +190,17 @@ def scale():
     response = jsonify(from_c=SCALE_FROM_C, to_c=SCALE_TO_C, stops=stops, ticks=ticks)
     response.cache_control.max_age = 86400
     return response
+
+
+@blueprint.get("/profiles")
+def profiles():
+    """Stored camera profiles, each with a label for the picker."""
+    from glowtemp.profile_store import list_profiles
+
+    listed = []
+    for summary in list_profiles(current_app.config["DATA_DIR"]):
+        low, high = summary["span_c"]
+        camera = summary.get("camera_model") or "camera not recorded"
+        label = f"{summary['name']}: {camera}, {summary['pairs']} pairs, {low:.0f}–{high:.0f} °C"
+        listed.append({**summary, "label": label})
+    return jsonify(profiles=listed)

@@ -4,6 +4,7 @@ import { paintScale, showReading } from "./result.js";
 
 const $ = (id) => document.getElementById(id);
 const UNIT_KEY = "glowtemp.unit";
+const PROFILE_KEY = "glowtemp.profile";
 
 const state = {
   unit: remembered(UNIT_KEY, "c") === "f" ? "f" : "c",
@@ -11,6 +12,7 @@ const state = {
   file: null,        // the photo file, kept for a new upload when no area was found
   photoUrl: null,
   scale: null,
+  profile: "",       // the chosen camera profile's name; "" for none
   sequence: 0,       // answers to older region requests are dropped
 };
 
@@ -57,10 +59,6 @@ function send(url, form, onProgress) {
   });
 }
 
-function profileChoice() {
-  return $("profile-select").value;
-}
-
 async function upload(file, regionText) {
   state.file = file;
   showProblem("");
@@ -70,7 +68,7 @@ async function upload(file, regionText) {
   const form = new FormData();
   form.append("photo", file, file.name || "photo.jpg");
   if (regionText) form.append("region", regionText);
-  if (profileChoice()) form.append("profile", profileChoice());
+  if (state.profile) form.append("profile", state.profile);
   const answer = await send("/api/readings", form, (share) => {
     if (share < 1) showProgress(`Sending the photo… ${Math.round(share * 100)} %`, share * 100);
     else showProgress("Reading the colour of the glow…", null);
@@ -134,7 +132,7 @@ async function remeasure(regionText) {
   const response = await fetch(`/api/readings/${state.reading.id}/region`, {
     method: "POST",
     headers: { "Content-Type": "application/json" },
-    body: JSON.stringify({ region: regionText, profile: profileChoice() }),
+    body: JSON.stringify({ region: regionText, profile: state.profile }),
   }).catch(() => null);
   if (sequence !== state.sequence) return;
   const body = response ? await response.json().catch(() => ({})) : {};
@@ -157,14 +155,25 @@ async function loadProfiles() {
   const response = await fetch("/api/profiles").catch(() => null);
   if (!response || !response.ok) return;
   const { profiles } = await response.json();
-  const select = $("profile-select");
-  for (const profile of profiles) {
-    const option = document.createElement("option");
-    option.value = profile.name;
-    option.textContent = profile.label;
-    select.append(option);
+  const wanted = remembered(PROFILE_KEY, "");
+  state.profile = profiles.some((p) => p.name === wanted) ? wanted : "";
+  for (const select of document.querySelectorAll("[data-profile]")) {
+    for (const profile of profiles) {
+      const option = document.createElement("option");
+      option.value = profile.name;
+      option.textContent = profile.label;
+      select.append(option);
+    }
+    select.value = state.profile;
   }
-  $("profile-field").hidden = profiles.length === 0;
+  for (const field of document.querySelectorAll("[data-profile-field]")) field.hidden = profiles.length === 0;
+}
+
+function setProfile(name) {
+  state.profile = name;
+  remember(PROFILE_KEY, name);
+  for (const select of document.querySelectorAll("[data-profile]")) select.value = name;
+  if (state.reading) remeasure(editor.text());
 }
 
 function setUnit(unit) {
@@ -187,7 +196,9 @@ for (const chip of document.querySelectorAll("[data-shape]")) {
   chip.addEventListener("click", () => { choosePhotoKind(chip.dataset.shape); editor.setKind(chip.dataset.shape); });
 }
 $("measure-drawn").addEventListener("click", () => upload(state.file, editor.text()));
-$("profile-select").addEventListener("change", () => { if (state.reading) remeasure(editor.text()); });
+for (const select of document.querySelectorAll("[data-profile]")) {
+  select.addEventListener("change", () => setProfile(select.value));
+}
 $("again").addEventListener("click", () => {
   $("capture").hidden = false;
   $("result").hidden = true;

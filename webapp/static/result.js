@@ -8,17 +8,22 @@ function pick(reading, name, unit) {
   return reading[`${name}_${unit}`];
 }
 
-function numeral(value, unit) {
+function unitSign(unit) {
   const span = document.createElement("span");
   span.className = "unit";
   span.textContent = SIGN[unit];
-  return [document.createTextNode(String(value)), span];
+  return span;
+}
+
+function numeral(value, unit) {
+  return [document.createTextNode(String(value)), unitSign(unit)];
 }
 
 const HEADLINES = {
   "not-glow": "No estimate: these colours do not look like glow",
   ambiguous: "No single answer from these colours",
   "no-data": "No estimate: no usable pixels",
+  clipped: "No estimate: the glow is blown out",
 };
 
 function showValue(reading, unit) {
@@ -34,8 +39,17 @@ function showValue(reading, unit) {
     value.replaceChildren(...numeral(central, unit));
     const [low68, high68] = pick(reading, "interval_68", unit);
     const [low95, high95] = pick(reading, "interval_95", unit);
-    bands.append(bandLine("Likely", low68, high68, unit, "68 % band, about 2 chances in 3"));
-    bands.append(bandLine("Almost surely", low95, high95, unit, "95 % band, about 19 in 20"));
+    bands.append(bandLine("Likely (68 %)", low68, high68, unit));
+    bands.append(bandLine("Almost surely (95 %)", low95, high95, unit));
+  } else if (pick(reading, "interval_95", unit)) {
+    // A wide band: the core gives a range only, since one number would look surer than it is.
+    const [low95, high95] = pick(reading, "interval_95", unit);
+    kicker.textContent = "Only a range from this photo";
+    value.className = "reading-value ceiling";
+    value.replaceChildren(...numeral(`${low95} – ${high95}`, unit));
+    const note = document.createElement("li");
+    note.textContent = "95 % band. It is too wide for one number to mean much; the notes below say how to narrow it.";
+    bands.append(note);
   } else if (ceiling !== null && ceiling !== undefined) {
     kicker.textContent = "The colour sets only a ceiling";
     value.className = "reading-value ceiling";
@@ -45,19 +59,19 @@ function showValue(reading, unit) {
     bands.append(note);
   } else {
     kicker.textContent = "Estimated temperature";
-    value.className = "reading-value ceiling";
-    value.textContent = HEADLINES[reading.status] || "No estimate";
+    value.className = "reading-value verdict";
+    value.textContent = HEADLINES[reading.status] || "No estimate from this photo";
   }
 }
 
-function bandLine(words, low, high, unit, meaning) {
+function bandLine(words, low, high, unit) {
   const line = document.createElement("li");
+  const label = document.createElement("span");
+  label.className = "band-label";
+  label.textContent = words;
   const range = document.createElement("b");
   range.textContent = `${low} – ${high} ${SIGN[unit]}`;
-  const small = document.createElement("span");
-  small.className = "muted";
-  small.textContent = ` (${meaning})`;
-  line.append(`${words} `, range, small);
+  line.append(label, range);
   return line;
 }
 
@@ -91,7 +105,9 @@ function showWarnings(reading) {
     what.textContent = warning.message;
     const fix = document.createElement("p");
     fix.className = "fix";
-    fix.textContent = `What to do: ${warning.fix}`;
+    const label = document.createElement("b");
+    label.textContent = "What to do: ";
+    fix.append(label, warning.fix);
     item.append(what, fix);
     list.append(item);
   }
@@ -105,7 +121,6 @@ function showFacts(reading) {
     `${reading.pixels_dark} too dark`,
     `${reading.pixels_outlier} out of line`,
     `colours read as ${reading.colour_space} (${reading.colour_space_source})`,
-    reading.profile ? `camera profile: ${reading.profile}` : "no camera profile: uncalibrated",
     reading.region.found ? "area found automatically" : "area set by hand",
   ];
   $("facts").textContent = parts.join(" · ");
@@ -122,7 +137,7 @@ export function paintScale(scale, unit) {
   for (const tick of scale.ticks[unit]) {
     const label = document.createElement("span");
     label.style.left = `${((tick.temperature_c - scale.from_c) / span) * 100}%`;
-    label.textContent = `${tick.label}${tick === scale.ticks[unit].at(-1) ? " " + SIGN[unit] : ""}`;
+    label.textContent = tick === scale.ticks[unit][0] ? `${tick.label} ${SIGN[unit]}` : String(tick.label);
     ticks.append(label);
   }
   box.dataset.fromC = scale.from_c;
@@ -152,13 +167,17 @@ function markScale(reading, unit) {
     const at = Math.min(Math.max(reading.temperature_c, from), to);
     mark.style.left = `${((at - from) / (to - from)) * 100}%`;
     mark.hidden = false;
+  } else if (reading.interval_95_c) {
+    [low, high] = reading.interval_95_c;
+    place(band95, low, high, from, to);
   } else if (reading.upper_bound_c !== null) {
     [low, high] = [from, reading.upper_bound_c];
     place(band95, low, high, from, to);
   }
+  $("scale-key").querySelector(".k68-line").hidden = band68.hidden;
   box.querySelector('[data-side="low"]').hidden = !(low !== null && low < from);
   box.querySelector('[data-side="high"]').hidden = !(high !== null && high > to);
-  box.hidden = !Number.isFinite(from) || (low === null && high === null);
+  $("scale-box").hidden = !Number.isFinite(from) || (low === null && high === null);
   const central = pick(reading, "temperature", unit);
   box.setAttribute("aria-label", central === null || central === undefined
     ? "Temperature scale in blackbody colours"
@@ -173,6 +192,9 @@ export function showReading(reading, unit) {
   showWarnings(reading);
   showFacts(reading);
   $("notice").textContent = reading.notice;
+  $("profile-used").textContent = reading.profile
+    ? `Camera profile: ${reading.profile}`
+    : "No camera profile: an uncalibrated estimate, with a wider band for the unknown camera.";
   for (const chip of document.querySelectorAll("[data-unit]")) {
     chip.setAttribute("aria-pressed", String(chip.dataset.unit === unit));
   }
