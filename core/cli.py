@@ -12,9 +12,9 @@ import sys
 
 
 def _measure(args) -> int:
-    from .photo import PhotoError, load_photo
-    from .reading import INSTRUMENT_NOTICE, measure
-    from .region import RegionError, parse_circle, parse_rectangle
+    from .batch import BatchError, collect_photos
+    from .reading import INSTRUMENT_NOTICE
+    from .region import parse_circle, parse_rectangle
 
     try:
         region = None
@@ -23,26 +23,91 @@ def _measure(args) -> int:
         elif args.circle:
             region = parse_circle(args.circle)
         profile = _load_named_profile(args)
-    except ValueError as error:  # RegionError, ProfileError
+        paths = collect_photos(args.photos)
+        if args.map and len(paths) != 1:
+            raise BatchError(f"--map draws one photo's map; {len(paths)} photos were given.")
+    except ValueError as error:  # RegionError, ProfileError, BatchError
         print(f"glowtemp: {error}", file=sys.stderr)
         return 2
-    failures = 0
-    for path in args.photos:
-        try:
-            photo = load_photo(path)
-            reading = measure(photo, region, photo_name=path, profile=profile)
-        except (PhotoError, RegionError, OSError) as error:
-            failures += 1
-            message = getattr(error, "strerror", None) or str(error)
-            if args.json:
-                print(json.dumps({"photo": path, "error": message}))
-            print(f"glowtemp: {path}: {message}", file=sys.stderr)
-            continue
-        result = reading.to_dict()
-        print(json.dumps(result) if args.json else describe(result))
-    if not args.json:
+    if args.map:
+        failures = _measure_with_map(args, paths[0], region, profile)
+    else:
+        failures = _measure_files(args, paths, region, profile)
+    if not (args.json or args.csv or args.jsonl):
         print(INSTRUMENT_NOTICE, file=sys.stderr)
     return 1 if failures else 0
+
+
+def _measure_files(args, paths, region, profile) -> int:
+    """Measure on all cores, writing each result in input order; returns the failure count."""
+    from contextlib import ExitStack
+
+    from .batch import csv_writer, csv_row, measure_many
+
+    failures = 0
+    with ExitStack() as files:
+        table = csv_writer(files.enter_context(open(args.csv, "w", encoding="utf-8", newline=""))) if args.csv else None
+        lines = files.enter_context(open(args.jsonl, "w", encoding="utf-8")) if args.jsonl else None
+        for measured in measure_many(paths, region=region, profile=profile, jobs=args.jobs):
+            record = measured.result or {"photo": measured.path, "error": measured.error}
+            if measured.error:
+                failures += 1
+                print(f"glowtemp: {measured.path}: {measured.error}", file=sys.stderr)
+            if table is not None:
+                table.writerow(csv_row(measured))
+            if lines is not None:
+                lines.write(json.dumps(record) + "\n")
+            if args.json:
+                print(json.dumps(record))
+            elif not (table or lines) and measured.result:
+                print(describe(measured.result))
+    return failures
+
+
+def _measure_with_map(args, path, region, profile) -> int:
+    """One photo's reading and its temperature map, drawn to ``args.map`` (PNG or SVG)."""
+    from .photo import PhotoError, load_photo
+    from .raw import uncalibrated_term
+    from .reading import measure
+    from .region import RegionError
+    from .tilemap import temperature_map, with_map
+    from .tilemap_chart import draw_map
+
+    image_format = "svg" if args.map.lower().endswith(".svg") else "png"
+    try:
+        photo = load_photo(path)
+        camera = uncalibrated_term(photo)
+        reading = measure(photo, region, camera=camera, photo_name=path, profile=profile)
+        tile_map = temperature_map(photo, reading.region, tiles=args.tiles, camera=camera, profile=profile)
+        drawn = draw_map(photo, tile_map, unit="F" if args.fahrenheit else "C", image_format=image_format)
+        with open(args.map, "wb") as handle:
+            handle.write(drawn)
+    except (PhotoError, RegionError, OSError) as error:
+        message = getattr(error, "strerror", None) or str(error)
+        print(json.dumps({"photo": path, "error": message}) if args.json else f"glowtemp: {path}: {message}",
+              file=sys.stdout if args.json else sys.stderr)  # fmt: skip
+        return 1
+    result = with_map(reading, tile_map).to_dict()
+    print(json.dumps(result) if args.json else describe(result) + "\n" + _describe_map(result["temperature_map"]))
+    print(f"temperature map of {path} written to {args.map}", file=sys.stderr)
+    return 0
+
+
+def _describe_map(record: dict) -> str:
+    """The map's hottest and coolest tiles for people."""
+    if record["hottest"] is None:
+        return f"  map: none of the {len(record['tiles'])} tiles gives a central estimate"
+    lines = [f"  map: {record['usable_tiles']} of {len(record['tiles'])} tiles give an estimate"]
+    for key in ("hottest", "coolest"):
+        tile = record[key]
+        low, high = tile["interval_95_c"]
+        lines.append(
+            f"  {key}: {tile['temperature_c']} °C ({low}-{high} °C, 95 %) at row {tile['row'] + 1}, "
+            f"column {tile['column'] + 1} (pixels {tile['x']},{tile['y']},{tile['width']},{tile['height']})"
+        )
+    if record["bands_overlap"] is False:
+        lines.append("  their 95 % bands do not overlap: the difference is real")
+    return "\n".join(lines)
 
 
 def _load_named_profile(args):
@@ -142,13 +207,19 @@ def build_parser() -> argparse.ArgumentParser:
     commands = parser.add_subparsers(dest="command", required=True)
 
     measure = commands.add_parser("measure", help="estimate the temperature of glow in photos")
-    measure.add_argument("photos", nargs="+", metavar="PHOTO")
+    measure.add_argument("photos", nargs="+", metavar="PHOTO", help="photo files or folders of photos")
     where = measure.add_mutually_exclusive_group()
     where.add_argument("--region", metavar="X,Y,W,H", help="rectangle in photo pixels")
     where.add_argument("--circle", metavar="CX,CY,R", help="circle in photo pixels")
     measure.add_argument("--profile", metavar="NAME", help="camera profile to apply")
     measure.add_argument("--data", metavar="DIR", help="data folder (profiles, firing log)")
     measure.add_argument("--json", action="store_true", help="one JSON object per photo per line")
+    measure.add_argument("--csv", metavar="FILE", help="write one row per photo to a CSV file")
+    measure.add_argument("--jsonl", metavar="FILE", help="write one JSON object per photo per line to a file")
+    measure.add_argument("--jobs", type=int, metavar="N", help="processes to measure with (default: all cores for 6 or more photos)")
+    measure.add_argument("--map", metavar="MAP.png", help="also draw a temperature map of the region (.png or .svg)")
+    measure.add_argument("--tiles", type=int, default=8, metavar="N", help="map tiles across the region (default 8)")
+    measure.add_argument("--fahrenheit", action="store_true", help="map legend in °F")
     measure.set_defaults(run=_measure)
 
     profile = commands.add_parser("profile", help="camera profiles learnt from trusted readings")
@@ -174,8 +245,10 @@ def build_parser() -> argparse.ArgumentParser:
     serve.set_defaults(run=_serve)
 
     from .logbook_cli import add_logbook_commands  # firings, export, import (lazy handlers)
+    from .series import add_series_commands  # firing from-photos (lazy handler)
 
     add_logbook_commands(commands)
+    add_series_commands(commands)
     return parser
 
 
