@@ -121,3 +121,19 @@ def test_the_overlay_is_a_png_or_an_svg_with_its_legend_unit(bar):
     assert "°F" in svg or "&#176;F" in svg
     with pytest.raises(ValueError, match="'C' or 'F'"):
         draw_map(photo, tile_map, unit="K")
+
+
+def test_the_measure_command_draws_the_map_and_reports_it(tmp_path, capsys):
+    from glowtemp.cli import main
+
+    rendered = hot_bar()
+    photo_path, map_path = tmp_path / "bar.jpg", tmp_path / "map.png"
+    photo_path.write_bytes(encode_jpeg(rendered))
+    x0, y0, x1, y1 = rendered.region.box
+    region = f"{x0},{y0 + 2},{x1 - x0},{y1 - y0 - 4}"
+    assert main(["measure", str(photo_path), "--region", region, "--map", str(map_path), "--json"]) == 0
+    record = json.loads(capsys.readouterr().out)["temperature_map"]
+    assert record["hottest"]["column"] == record["columns"] - 1
+    assert Image.open(map_path).format == "PNG"
+    assert main(["measure", str(photo_path), str(photo_path), "--map", str(map_path)]) == 2
+    assert "one photo" in capsys.readouterr().err
