@@ -26,6 +26,11 @@ function remember(key, value) {
 
 const editor = new RegionEditor($("overlay"), (text) => remeasure(text));
 
+// The result card, the notes after the photo and the "another photo" button come and go together.
+function showResultBlocks(visible) {
+  for (const id of ["result", "result-end"]) $(id).hidden = !visible;
+}
+
 function showProblem(message) {
   $("problem").textContent = message;
   $("problem").hidden = !message;
@@ -62,7 +67,8 @@ function send(url, form, onProgress) {
 async function upload(file, regionText) {
   state.file = file;
   showProblem("");
-  $("result").hidden = true;
+  showResultBlocks(false);
+  $("photo-section").hidden = true;
   $("measure-drawn").hidden = true;
   showProgress("Sending the photo… 0 %", 0);
   const form = new FormData();
@@ -108,6 +114,7 @@ function offerDrawing(file) {
     state.reading = null;
     $("photo-section").hidden = false;
     $("measure-drawn").hidden = false;
+    $("again").hidden = false;
     $("region-status").textContent = "Place the outline on the glow, then measure.";
   };
   img.onerror = () => showProblem($("problem").textContent + " This browser cannot show the photo either.");
@@ -119,7 +126,8 @@ function showResult(reading) {
   editor.setRegion(reading.region);
   choosePhotoKind(reading.region.kind);
   showReading(reading, state.unit);
-  $("result").hidden = false;
+  showResultBlocks(true);
+  $("again").hidden = false;
   $("region-status").textContent = "";
   $("capture").hidden = true;
   $("result").scrollIntoView({ block: "start" });
@@ -176,9 +184,11 @@ function setProfile(name) {
   if (state.reading) remeasure(editor.text());
 }
 
-function setUnit(unit) {
+function showUnit(unit) {
   state.unit = unit;
-  remember(UNIT_KEY, unit);
+  for (const chip of document.querySelectorAll("[data-unit]")) {
+    chip.setAttribute("aria-pressed", String(chip.dataset.unit === unit));
+  }
   if (state.scale) paintScale(state.scale, unit);
   if (state.reading) showReading(state.reading, unit);
 }
@@ -190,7 +200,7 @@ for (const input of [$("camera-input"), $("file-input")]) {
   });
 }
 for (const chip of document.querySelectorAll("[data-unit]")) {
-  chip.addEventListener("click", () => setUnit(chip.dataset.unit));
+  chip.addEventListener("click", () => { remember(UNIT_KEY, chip.dataset.unit); showUnit(chip.dataset.unit); });
 }
 for (const chip of document.querySelectorAll("[data-shape]")) {
   chip.addEventListener("click", () => { choosePhotoKind(chip.dataset.shape); editor.setKind(chip.dataset.shape); });
@@ -201,13 +211,15 @@ for (const select of document.querySelectorAll("[data-profile]")) {
 }
 $("again").addEventListener("click", () => {
   $("capture").hidden = false;
-  $("result").hidden = true;
+  showResultBlocks(false);
   $("photo-section").hidden = true;
+  $("again").hidden = true;
   showProblem("");
   state.reading = null;
   window.scrollTo(0, 0);
   $("camera-input").focus();
 });
 
+showUnit(state.unit);
 loadScale();
 loadProfiles();

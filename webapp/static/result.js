@@ -39,8 +39,8 @@ function showValue(reading, unit) {
     value.replaceChildren(...numeral(central, unit));
     const [low68, high68] = pick(reading, "interval_68", unit);
     const [low95, high95] = pick(reading, "interval_95", unit);
-    bands.append(bandLine("Likely (68 %)", low68, high68, unit));
-    bands.append(bandLine("Almost surely (95 %)", low95, high95, unit));
+    bands.append(bandLine("68 % band", low68, high68, unit));
+    bands.append(bandLine("95 % band", low95, high95, unit));
   } else if (pick(reading, "interval_95", unit)) {
     // A wide band: the core gives a range only, since one number would look surer than it is.
     const [low95, high95] = pick(reading, "interval_95", unit);
@@ -58,7 +58,7 @@ function showValue(reading, unit) {
     note.textContent = "95 % sure it is no hotter. Glow this deep red gives no lower limit from colour alone.";
     bands.append(note);
   } else {
-    kicker.textContent = "Estimated temperature";
+    kicker.textContent = "No temperature from this photo";
     value.className = "reading-value verdict";
     value.textContent = HEADLINES[reading.status] || "No estimate from this photo";
   }
@@ -186,6 +186,8 @@ function markScale(reading, unit) {
 
 export function showReading(reading, unit) {
   showValue(reading, unit);
+  const anyNumber = reading.temperature_c !== null || reading.interval_95_c || reading.upper_bound_c !== null;
+  $("units").hidden = !anyNumber;
   showGlowName(reading);
   markScale(reading, unit);
   showSwatches(reading, unit);
@@ -195,7 +197,4 @@ export function showReading(reading, unit) {
   $("profile-used").textContent = reading.profile
     ? `Camera profile: ${reading.profile}`
     : "No camera profile: an uncalibrated estimate, with a wider band for the unknown camera.";
-  for (const chip of document.querySelectorAll("[data-unit]")) {
-    chip.setAttribute("aria-pressed", String(chip.dataset.unit === unit));
-  }
 }

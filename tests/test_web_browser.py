@@ -1,0 +1,221 @@
+"""The measuring page in a real headless Chromium at a phone-sized viewport (390 x 844).
+
+Each test drives the page as a person would (pick a photo, drag the outline, tap a unit) and
+saves screenshots to test-artifacts/. The expected numbers come from the API's own answer for
+the same request, so the tests check what the page shows against what the core computed.
+"""
+
+from __future__ import annotations
+
+import re
+
+from conftest import DEMO_IMAGES, PHONE_VIEWPORT
+
+DEMO_PHOTO = DEMO_IMAGES / "alder_lane_1100_870C.jpg"  # a spy hole at 870 °C (truth.csv)
+WAIT_MS = 20_000
+
+
+def upload(page, live_server, path):
+    """Open the page, choose ``path`` as the photo; returns the API's JSON answer."""
+    page.goto(live_server + "/")
+    with page.expect_response(lambda r: r.url.endswith("/api/readings")) as answer:
+        page.set_input_files("#file-input", str(path))
+    page.wait_for_selector("#result:not([hidden])", timeout=WAIT_MS)
+    return answer.value.json()
+
+
+def shown_value(page) -> str:
+    return re.sub(r"\s+", " ", page.inner_text("#reading-value")).strip()
+
+
+def test_page_fits_the_phone_and_offers_the_camera(live_server, browser_page, artifacts):
+    page = browser_page
+    page.goto(live_server + "/")
+    camera = page.locator("#camera-input")
+    assert camera.get_attribute("capture") == "environment" and camera.get_attribute("accept") == "image/*"
+    box = page.locator("label[for=camera-input]").bounding_box()
+    assert box["height"] >= 56 and box["width"] >= 300  # a big target for a gloved thumb
+    assert page.evaluate("document.documentElement.scrollWidth") <= PHONE_VIEWPORT["width"]
+    page.screenshot(path=artifacts / "web-01-start.png")
+
+
+def test_upload_shows_the_reading_band_scale_and_swatches(live_server, browser_page, artifacts, tmp_path):
+    page = browser_page
+    reading = upload(page, live_server, DEMO_PHOTO)
+    assert reading["status"] == "ok"
+    assert shown_value(page) == f"{reading['temperature_c']}°C"
+    bands = page.inner_text("#bands")
+    low68, high68 = reading["interval_68_c"]
+    low95, high95 = reading["interval_95_c"]
+    assert f"{low68} – {high68} °C" in bands and f"{low95} – {high95} °C" in bands
+    assert reading["glow_name"] in page.inner_text("#glow-name")
+    # The band sits on the scale where its temperatures are.
+    scale = page.locator("#scale").bounding_box()
+    band = page.locator("#scale .band68").bounding_box()
+    fraction = lambda t: (t - 400) / (1600 - 400)  # noqa: E731  (the scale's span, api.py)
+    assert abs(band["x"] - (scale["x"] + fraction(low68) * scale["width"])) < 3
+    assert abs(band["x"] + band["width"] - (scale["x"] + fraction(high68) * scale["width"])) < 3
+    colours = page.evaluate("""() => [getComputedStyle(document.getElementById('region-patch')).backgroundColor,
+                                      getComputedStyle(document.getElementById('estimate-patch')).backgroundColor]""")
+    as_rgb = lambda h: f"rgb({int(h[1:3], 16)}, {int(h[3:5], 16)}, {int(h[5:7], 16)})"  # noqa: E731
+    assert colours == [as_rgb(reading["region_colour_hex"]), as_rgb(reading["estimate_colour_hex"])]
+    assert page.locator("#progress").is_hidden()
+    assert reading["notice"] in page.inner_text("#notice")
+    assert page.evaluate("document.documentElement.scrollWidth") <= PHONE_VIEWPORT["width"]
+    page.screenshot(path=artifacts / "web-02-reading.png")
+    page.screenshot(path=artifacts / "web-02-reading-full.png", full_page=True)
+
+
+def test_dragging_the_region_measures_again(live_server, browser_page, artifacts, tmp_path, two_halves_jpeg):
+    page = browser_page
+    photo = tmp_path / "two-halves.jpg"
+    photo.write_bytes(two_halves_jpeg)
+    first = upload(page, live_server, photo)
+    page.locator("#photo-section").scroll_into_view_if_needed()
+    overlay = page.locator("#overlay").bounding_box()
+    shape = page.locator("#overlay .shape").bounding_box()
+    centre_x, centre_y = shape["x"] + shape["width"] / 2, shape["y"] + shape["height"] / 2
+    # The finder chose the hotter right half; drag the outline onto the cooler left half.
+    assert centre_x > overlay["x"] + overlay["width"] / 2
+    with page.expect_response(lambda r: "/region" in r.url) as answer:
+        page.mouse.move(centre_x, centre_y)
+        page.mouse.down()
+        page.mouse.move(overlay["x"] + overlay["width"] * 0.25, centre_y, steps=8)
+        page.mouse.up()
+    moved = answer.value.json()
+    page.wait_for_function("document.getElementById('region-status').textContent.includes('again')")
+    assert moved["temperature_c"] < first["temperature_c"]
+    assert shown_value(page) == f"{moved['temperature_c']}°C"
+    page.screenshot(path=artifacts / "web-03-region-moved.png", full_page=True)
+
+    # Resize with the round handle: the region sent grows.
+    handle = page.locator("#overlay .handle-ring").bounding_box()
+    hx, hy = handle["x"] + handle["width"] / 2, handle["y"] + handle["height"] / 2
+    with page.expect_response(lambda r: "/region" in r.url) as answer:
+        page.mouse.move(hx, hy)
+        page.mouse.down()
+        page.mouse.move(hx + 25, hy + 25, steps=5)
+        page.mouse.up()
+    grown = answer.value.json()["region"]
+    before = moved["region"]
+    size = lambda r: r.get("radius") or r["width"] * r["height"]  # noqa: E731
+    assert grown["kind"] == before["kind"] and size(grown) > size(before)
+
+
+def test_shape_switch_and_keyboard_move_measure_again(live_server, browser_page, tmp_path, two_halves_jpeg):
+    page = browser_page
+    photo = tmp_path / "two-halves.jpg"
+    photo.write_bytes(two_halves_jpeg)
+    first = upload(page, live_server, photo)
+    other = "circle" if first["region"]["kind"] == "rectangle" else "rectangle"
+    with page.expect_response(lambda r: "/region" in r.url) as answer:
+        page.click(f"[data-shape={other}]")
+    switched = answer.value.json()["region"]
+    assert switched["kind"] == other
+    page.focus("#overlay g")
+    with page.expect_response(lambda r: "/region" in r.url) as answer:
+        for _ in range(5):
+            page.keyboard.press("ArrowLeft")
+    moved = answer.value.json()["region"]
+    assert moved["kind"] == other
+    key = "cx" if other == "circle" else "x"
+    assert moved[key] < switched[key]  # arrow keys moved it left, then it was measured once
+
+
+def test_units_switch_and_the_choice_is_remembered(live_server, browser_page, artifacts):
+    page = browser_page
+    reading = upload(page, live_server, DEMO_PHOTO)
+    page.click("[data-unit=f]")
+    assert shown_value(page) == f"{reading['temperature_f']}°F"
+    low, high = reading["interval_68_f"]
+    assert f"{low} – {high} °F" in page.inner_text("#bands")
+    assert "°F" in page.inner_text("#scale .ticks")
+    page.screenshot(path=artifacts / "web-04-fahrenheit.png")
+    page.reload()
+    assert page.get_attribute("[data-unit=f]", "aria-pressed") == "true"
+    upload(page, live_server, DEMO_PHOTO)
+    assert shown_value(page).endswith("°F")
+    page.click("[data-unit=c]")
+    assert shown_value(page) == f"{reading['temperature_c']}°C"
+
+
+def test_a_ceiling_is_shown_as_below_about(live_server, browser_page, artifacts):
+    page = browser_page
+    reading = upload(page, live_server, DEMO_IMAGES / "alder_lane_0900_650C.jpg")
+    assert reading["status"] == "upper-bound"
+    assert shown_value(page) == f"below about {reading['upper_bound_c']}°C"
+    codes = page.eval_on_selector_all("#warnings li", "items => items.map(i => i.dataset.code)")
+    assert codes == [w["code"] for w in reading["warnings"]]
+    assert all(page.locator("#warnings .fix").all_inner_texts())
+    page.screenshot(path=artifacts / "web-05-ceiling.png", full_page=True)
+
+
+def test_no_glow_found_lets_the_user_place_the_region(live_server, browser_page, artifacts, tmp_path, dark_jpeg):
+    page = browser_page
+    photo = tmp_path / "dark.jpg"
+    photo.write_bytes(dark_jpeg)
+    page.goto(live_server + "/")
+    page.set_input_files("#file-input", str(photo))
+    page.wait_for_selector("#measure-drawn:not([hidden])", timeout=WAIT_MS)
+    assert "draw the region" in page.inner_text("#problem")
+    with page.expect_response(lambda r: r.url.endswith("/api/readings")) as answer:
+        page.click("#measure-drawn")
+    page.wait_for_selector("#result:not([hidden])", timeout=WAIT_MS)
+    reading = answer.value.json()
+    assert reading["region"]["found"] is False and reading["temperature_c"] is None
+    assert page.locator("#warnings li").count() == len(reading["warnings"]) > 0
+    page.screenshot(path=artifacts / "web-06-drawn-region.png", full_page=True)
+
+
+def test_safety_page_opens_from_the_result(live_server, browser_page, artifacts):
+    page = browser_page
+    upload(page, live_server, DEMO_PHOTO)
+    page.click("#safety-line a")
+    page.wait_for_url(live_server + "/safety")
+    assert page.inner_text("h1") == "Working safely around glow"
+    assert "carbon monoxide" in page.inner_text("main")
+    page.screenshot(path=artifacts / "web-07-safety.png", full_page=True)
+
+
+def contrast_ratio(first: str, second: str) -> float:
+    """WCAG 2.1 contrast ratio of two CSS rgb() colours (relative luminance, section 1.4.3)."""
+
+    def luminance(css: str) -> float:
+        channels = [int(v) / 255 for v in re.findall(r"\d+", css)[:3]]
+        linear = [c / 12.92 if c <= 0.04045 else ((c + 0.055) / 1.055) ** 2.4 for c in channels]
+        return 0.2126 * linear[0] + 0.7152 * linear[1] + 0.0722 * linear[2]
+
+    high, low = sorted((luminance(first), luminance(second)), reverse=True)
+    return (high + 0.05) / (low + 0.05)
+
+
+COLOURS = """() => {
+  const css = (selector, property) => getComputedStyle(document.querySelector(selector))[property];
+  return {page: css("html", "backgroundColor"), text: css("html", "color"),
+          card: css("#result", "backgroundColor"), muted: css("#reading-kicker", "color"),
+          action: css("label[for=camera-input]", "backgroundColor"), actionText: css("label[for=camera-input]", "color")};
+}"""
+
+
+def check_contrast(colours):
+    # WCAG 2.1: 7:1 for body text (AAA, 1.4.6) suits sunlight and a dim studio; 4.5:1 (AA) elsewhere.
+    assert contrast_ratio(colours["text"], colours["page"]) >= 7
+    assert contrast_ratio(colours["text"], colours["card"]) >= 7
+    assert contrast_ratio(colours["muted"], colours["card"]) >= 4.5
+    assert contrast_ratio(colours["actionText"], colours["action"]) >= 7
+
+
+def test_both_views_have_strong_contrast_and_sunlight_is_remembered(live_server, browser_page, artifacts):
+    page = browser_page
+    upload(page, live_server, DEMO_PHOTO)
+    studio = page.evaluate(COLOURS)
+    check_contrast(studio)
+    page.click("#theme-switch")
+    assert page.get_attribute("html", "data-theme") == "light"
+    page.reload()
+    assert page.get_attribute("html", "data-theme") == "light"
+    upload(page, live_server, DEMO_PHOTO)
+    sunlight = page.evaluate(COLOURS)
+    assert sunlight["page"] != studio["page"]
+    check_contrast(sunlight)
+    page.screenshot(path=artifacts / "web-08-sunlight.png", full_page=True)
