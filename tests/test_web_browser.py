@@ -28,6 +28,19 @@ def shown_value(page) -> str:
     return re.sub(r"\s+", " ", page.inner_text("#reading-value")).strip()
 
 
+def touch_drag(page, start, end, steps=8):
+    """A one-finger drag through the DevTools protocol's touch events."""
+    session = page.context.new_cdp_session(page)
+    send = lambda kind, points: session.send("Input.dispatchTouchEvent", {"type": kind, "touchPoints": points})  # noqa: E731
+    send("touchStart", [{"x": start[0], "y": start[1]}])
+    for step in range(1, steps + 1):
+        x = start[0] + (end[0] - start[0]) * step / steps
+        y = start[1] + (end[1] - start[1]) * step / steps
+        send("touchMove", [{"x": x, "y": y}])
+    send("touchEnd", [])
+    session.detach()
+
+
 def test_page_fits_the_phone_and_offers_the_camera(live_server, browser_page, artifacts):
     page = browser_page
     page.goto(live_server + "/")
@@ -87,6 +100,17 @@ def test_dragging_the_region_measures_again(live_server, browser_page, artifacts
     assert moved["temperature_c"] < first["temperature_c"]
     assert shown_value(page) == f"{moved['temperature_c']}°C"
     page.screenshot(path=artifacts / "web-03-region-moved.png", full_page=True)
+
+    # Drag it back with a finger (touch events, as a phone sends them): the hotter half reads
+    # hotter again.
+    shape = page.locator("#overlay .shape").bounding_box()
+    start = (shape["x"] + shape["width"] / 2, shape["y"] + shape["height"] / 2)
+    end = (overlay["x"] + overlay["width"] * 0.75, start[1] + 40)  # down a little, as a thumb moves
+    with page.expect_response(lambda r: "/region" in r.url) as answer:
+        touch_drag(page, start, end)
+    back = answer.value.json()
+    assert back["temperature_c"] > moved["temperature_c"]
+    moved = back
 
     # Resize with the round handle: the region sent grows.
     handle = page.locator("#overlay .handle-ring").bounding_box()
