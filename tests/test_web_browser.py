@@ -79,6 +79,22 @@ def test_upload_shows_the_reading_band_scale_and_swatches(live_server, browser_p
     page.screenshot(path=artifacts / "web-02-reading-full.png", full_page=True)
 
 
+def test_progress_shows_while_the_photo_is_on_its_way(live_server, browser_page):
+    page = browser_page
+    page.goto(live_server + "/")
+    held = []
+    page.route("**/api/readings", lambda route: held.append(route))
+    page.set_input_files("#file-input", str(DEMO_PHOTO))
+    page.wait_for_selector("#progress:not([hidden])")
+    while not held:  # the request is held back until the test lets it go
+        page.wait_for_timeout(20)
+    assert re.match(r"(Sending the photo|Reading the colour)", page.inner_text("#progress-text"))
+    assert page.locator("#result").is_hidden()
+    held[0].continue_()
+    page.wait_for_selector("#result:not([hidden])", timeout=WAIT_MS)
+    assert page.locator("#progress").is_hidden()
+
+
 def test_dragging_the_region_measures_again(live_server, browser_page, artifacts, tmp_path, two_halves_jpeg):
     page = browser_page
     photo = tmp_path / "two-halves.jpg"

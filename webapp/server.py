@@ -39,6 +39,8 @@ def serve(host: str, port: int, data_dir: Path, demo_dir: Path | None = None) ->
 
         if seed_demo(app.extensions["glowtemp"]["logbook"], Path(demo_dir)) is not None:
             print(f"Added a demo firing made from the photos in {demo_dir}", flush=True)
+        else:
+            print(f"No demo firing added: the log already has firings, or {demo_dir} holds no demo photos.", flush=True)
     server = create_server(app, host=host, port=port, threads=SERVER_THREADS)
     print(f"glowtemp is serving the data folder {data_dir}", flush=True)
     for url in addresses_to_open(host, server.effective_port):
