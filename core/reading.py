@@ -55,28 +55,31 @@ class Reading:
     region_colour_hex: str | None = None
     extra: dict = field(default_factory=dict)
 
-    def _celsius(self):
-        """Central value and intervals in °C, rounded to a step the 68 % band supports."""
+    def _shown(self, from_kelvin):
+        """Central value, 68 % and 95 % intervals, ceiling and step in one unit, each rounded to
+        a step the 68 % band supports in that unit (bands outwards, so they never shrink)."""
         e = self.estimate
         if e.status == "upper-bound":
-            ceiling = kelvin_to_celsius(e.interval_95_k[1])
-            return None, None, None, round_to(ceiling, 10), 10
+            return None, None, None, round_to(from_kelvin(e.interval_95_k[1]), 10), 10
         if not e.usable:
             return None, None, None, None, None
-        low68, high68 = (kelvin_to_celsius(t) for t in e.interval_68_k)
+        low68, high68 = (from_kelvin(t) for t in e.interval_68_k)
         step = rounding_step((high68 - low68) / 2)
-        down = lambda t: int(np.floor(kelvin_to_celsius(t) / step) * step)  # noqa: E731
-        up = lambda t: int(np.ceil(kelvin_to_celsius(t) / step) * step)  # noqa: E731
+        down = lambda t: int(np.floor(from_kelvin(t) / step) * step)  # noqa: E731
+        up = lambda t: int(np.ceil(from_kelvin(t) / step) * step)  # noqa: E731
         band95 = [down(e.interval_95_k[0]), up(e.interval_95_k[1])]
         if e.status == "wide":  # a range only: one central number would look surer than it is
             return None, None, band95, None, step
-        central = round_to(kelvin_to_celsius(e.temperature_k), step)
+        central = round_to(from_kelvin(e.temperature_k), step)
         return central, [down(e.interval_68_k[0]), up(e.interval_68_k[1])], band95, None, step
 
     def to_dict(self) -> dict:
         """The JSON form shared by ``glowtemp measure --json``, the web API and the firing log."""
-        central, band68, band95, ceiling, step = self._celsius()
-        to_f = lambda t: None if t is None else round_to(celsius_to_fahrenheit(t), 1)  # noqa: E731
+        central, band68, band95, ceiling, step = self._shown(kelvin_to_celsius)
+        central_f, band68_f, band95_f, ceiling_f, step_f = self._shown(
+            lambda t: celsius_to_fahrenheit(kelvin_to_celsius(t))
+        )
+        central_k, *_ = self._shown(lambda t: t)
         return {
             "photo": self.photo_name,
             "status": self.estimate.status,
@@ -85,11 +88,12 @@ class Reading:
             "interval_95_c": band95,
             "upper_bound_c": ceiling,
             "resolution_c": step,
-            "temperature_f": to_f(central),
-            "interval_68_f": None if band68 is None else [to_f(t) for t in band68],
-            "interval_95_f": None if band95 is None else [to_f(t) for t in band95],
-            "upper_bound_f": to_f(ceiling),
-            "temperature_k": None if central is None else round_to(central + 273.15, step),
+            "temperature_f": central_f,
+            "interval_68_f": band68_f,
+            "interval_95_f": band95_f,
+            "upper_bound_f": ceiling_f,
+            "resolution_f": step_f,
+            "temperature_k": central_k,
             "glow_name": None if central is None else heat_colour_name(central),
             "estimate_colour_hex": None
             if central is None
@@ -144,7 +148,8 @@ def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -
     if estimate.status == "ambiguous":
         found.append(advice.ambiguous())
     if estimate.status == "upper-bound":
-        found.append(advice.colour_floor(photo.space.name, kelvin_to_celsius(estimate.interval_95_k[1])))
+        ceiling_c = round_to(kelvin_to_celsius(estimate.interval_95_k[1]), 10)
+        found.append(advice.colour_floor(photo.space.name, ceiling_c))
     elif estimate.status == "wide":
         found.append(advice.wide_range())
     elif estimate.usable and kelvin_to_celsius(estimate.temperature_k) < advice.BELOW_GLOW_C:

@@ -24,7 +24,7 @@ DEFAULT_TILES = 8  # tiles across the longer side of the region's bounding box
 MIN_TILE_PX = 8  # a tile is at least this many pixels on each side
 TILE_KEYS = (
     "status", "temperature_c", "interval_68_c", "interval_95_c", "upper_bound_c", "resolution_c",
-    "temperature_f", "interval_68_f", "interval_95_f", "upper_bound_f", "glow_name",
+    "temperature_f", "interval_68_f", "interval_95_f", "upper_bound_f", "resolution_f", "glow_name",
     "estimate_colour_hex", "pixels_used", "pixels_clipped", "pixels_total",
 )  # fmt: skip
 

@@ -41,7 +41,7 @@ def test_reading_fields_and_units():
     low95, high95 = result["interval_95_c"]
     assert low95 <= low68 <= result["temperature_c"] <= high68 <= high95
     # NIST SP 811: t_F = 1.8 t_C + 32, and K = °C + 273.15 (to the shown resolution)
-    assert result["temperature_f"] == pytest.approx(result["temperature_c"] * 1.8 + 32, abs=1)
+    assert result["temperature_f"] == pytest.approx(result["temperature_c"] * 1.8 + 32, abs=result["resolution_f"])
     assert result["temperature_k"] == pytest.approx(result["temperature_c"] + 273, abs=result["resolution_c"])
     step = result["resolution_c"]
     assert all(v % step == 0 for v in (result["temperature_c"], low68, high68, low95, high95))

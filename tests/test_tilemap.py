@@ -109,7 +109,7 @@ def test_the_map_travels_with_the_reading_as_json(bar):
     assert hot["column"] == record["columns"] - 1
     low, high = hot["interval_95_c"]
     assert low <= hot["temperature_c"] <= high
-    assert hot["temperature_f"] == pytest.approx(celsius_to_fahrenheit(hot["temperature_c"]), abs=0.1)
+    assert hot["temperature_f"] == pytest.approx(celsius_to_fahrenheit(hot["temperature_c"]), abs=hot["resolution_f"])
 
 
 def test_the_overlay_is_a_png_or_an_svg_with_its_legend_unit(bar):
