@@ -27,7 +27,6 @@ from functools import partial
 from pathlib import Path
 
 PHOTO_SUFFIXES = (".jpg", ".jpeg", ".png", ".tif", ".tiff", ".heic", ".heif", ".dng")
-STORED_SUFFIXES = {"JPEG": ".jpg", "PNG": ".png", "TIFF": ".tif", "HEIC": ".heic", "DNG": ".dng"}
 MAX_CHUNK = 8  # photos handed to a worker at a time
 POOL_FROM_PHOTOS = 6  # by default fewer photos are measured in-process (a pool takes ~0.5 s to start)
 CSV_COLUMNS = (

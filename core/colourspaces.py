@@ -61,6 +61,12 @@ SRGB = RGBSpace("sRGB", ((0.64, 0.33), (0.30, 0.60), (0.15, 0.06)))
 DISPLAY_P3 = RGBSpace("Display P3", ((0.680, 0.320), (0.265, 0.690), (0.150, 0.060)))
 ADOBE_RGB = RGBSpace("Adobe RGB (1998)", ((0.64, 0.33), (0.21, 0.71), (0.15, 0.06)))
 KNOWN_SPACES = (SRGB, DISPLAY_P3, ADOBE_RGB)
+# ROMM RGB primaries (ISO 22028-2:2013) with their D50 white, kept linear: wide enough that no
+# blackbody from 700 K up has a negative component, so raw photos are read without clipping.
+LINEAR_ROMM = RGBSpace(
+    "Linear ROMM RGB (camera raw)", ((0.7347, 0.2653), (0.1596, 0.8404), (0.0366, 0.0001)), D50_XY
+)
+SPACES_BY_NAME = {space.name: space for space in (*KNOWN_SPACES, LINEAR_ROMM)}
 
 
 def srgb_decode(encoded):

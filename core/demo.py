@@ -26,7 +26,6 @@ DEMO_NOTES = (
 GLAZE_NOTES_START = "glaze firing"
 THERMOCOUPLE_READS_LOW = 0.006  # fraction; within IEC 60584-1 type K class 2 (0.0075 |t|)
 DEMO_CONE = "6"
-SUFFIXES = {"JPEG": ".jpg", "PNG": ".png", "TIFF": ".tif"}
 
 
 def demo_rows(demo_dir: Path) -> list[dict]:
@@ -44,7 +43,7 @@ def demo_rows(demo_dir: Path) -> list[dict]:
 
 def seed_demo(log, demo_dir: Path) -> int | None:
     """When ``log`` has no firings, add the demo firing; returns its id, or None if nothing was added."""
-    from .photo import load_photo
+    from .photo import STORED_SUFFIXES, load_photo
     from .reading import measure
 
     if log.list_firings():
@@ -74,7 +73,7 @@ def seed_demo(log, demo_dir: Path) -> int | None:
             trusted["note"] = "Demo data: invented thermocouple value (the rendered temperature, read 0.6 % low)."
         if cone_c is not None and index >= len(measured) - 2:
             trusted.update(cone=DEMO_CONE, cone_state="bent" if true_c >= cone_c else "standing")
-        key = log.store_photo(data, SUFFIXES[photo.format])
+        key = log.store_photo(data, STORED_SUFFIXES[photo.format])
         log.add_reading(
             photo_key=key, photo_name=row["file"], result=result, firing_id=firing_id,
             taken_at=photo.metadata.taken_at or log.get_firing(firing_id)["started_at"], **trusted,

@@ -42,6 +42,8 @@ from .colourspaces import ADOBE_RGB, DISPLAY_P3, SRGB, RGBSpace, gamma_decode, s
 from .icc import IccError, parse_icc_profile
 
 READABLE = "JPEG, PNG, TIFF, HEIC or DNG"
+# The file suffix a stored copy of each decoded format gets (chosen from content, never a client name).
+STORED_SUFFIXES = {"JPEG": ".jpg", "PNG": ".png", "TIFF": ".tif", "HEIC": ".heic", "DNG": ".dng"}
 MIN_SIDE_PX = 8
 ADOBE_RGB_GAMMA = 563 / 256  # Adobe RGB (1998) Color Image Encoding, section 4.3.1.2
 STRIP_BYTES = 2 << 20  # Pillow pixels are copied out in strips of about this size

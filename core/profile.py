@@ -40,7 +40,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .colourspaces import KNOWN_SPACES, RGBSpace
+from .colourspaces import SPACES_BY_NAME, RGBSpace
 from .estimate import CameraTerm, observed_ratios
 from .locus import TABLE_MIN_K, blackbody_table, locus_ratios
 from .scales import celsius_to_kelvin
@@ -173,9 +173,8 @@ class CameraProfile:
 
     @property
     def space(self) -> RGBSpace:
-        for space in KNOWN_SPACES:
-            if space.name == self.colour_space:
-                return space
+        if self.colour_space in SPACES_BY_NAME:
+            return SPACES_BY_NAME[self.colour_space]
         raise ProfileError(f"The profile's colour space {self.colour_space!r} is not one glowtemp knows.")
 
     def camera_term(self) -> CameraTerm:

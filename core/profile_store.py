@@ -192,6 +192,7 @@ def read_pairs(csv_path: Path, data_dir: Path):
 def _camera_settings(photo) -> dict:
     meta = photo.metadata
     return {
+        "format": photo.format,
         "camera_make": meta.camera_make,
         "camera_model": meta.camera_model,
         "white_balance": meta.white_balance,

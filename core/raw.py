@@ -40,13 +40,11 @@ from datetime import datetime
 
 import numpy as np
 
-from .colourspaces import D50_XY, RGBSpace
+from .colourspaces import LINEAR_ROMM
 from .estimate import UNCALIBRATED, CameraTerm
 from .photo import MIN_SIDE_PX, Photo, PhotoError, PhotoMetadata, upright
 
-RAW_SPACE = RGBSpace(
-    "Linear ROMM RGB (camera raw)", ((0.7347, 0.2653), (0.1596, 0.8404), (0.0366, 0.0001)), D50_XY
-)
+RAW_SPACE = LINEAR_ROMM
 RAW_SOURCE = "dng"  # Photo.space_source for raw photos: the colour comes from the file's matrix
 MAX_CODE = 65535
 BAYER_CHANNEL = {0: 0, 1: 1, 3: 1, 2: 2}  # LibRaw colour index (3: second green) to R, G, B

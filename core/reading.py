@@ -13,13 +13,13 @@ import numpy as np
 from . import advice
 from .colourspaces import SRGB, srgb_encode
 from .estimate import (
-    UNCALIBRATED,
     CameraTerm,
     TemperatureEstimate,
     estimate_temperature,
     with_auto_white_balance,
 )
 from .locus import TABLE_MAX_K, blackbody_swatch_hex
+from .raw import RAW_SPACE, uncalibrated_term
 from .region import find_glow
 from .sampling import RegionStatistics, region_statistics
 from .scales import (
@@ -159,6 +159,15 @@ def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -
     return found
 
 
+def _finder_red(photo) -> np.ndarray:
+    """The red channel as the glow finder sees it: the file's codes, or for linear raw data
+    their square root (a rough display encoding), so a bright core does not hide the rest."""
+    red = photo.codes[:, :, 0]
+    if photo.space is not RAW_SPACE:
+        return red
+    return np.sqrt(red / np.float32(photo.max_code)) * np.float32(255)
+
+
 def _profile_camera(profile, photo):
     """The camera term a profile gives for this photo (None if it does not apply) and its advice.
 
@@ -172,10 +181,11 @@ def _profile_camera(profile, photo):
     taken_with = (photo.metadata.camera_model, photo.metadata.white_balance)
     if made_with == taken_with:
         return camera, []
+    loose = uncalibrated_term(photo)
     widened = replace(
         camera,
-        green_floor=float(np.hypot(camera.green_floor, UNCALIBRATED.green_floor)),
-        ratio_sigma=UNCALIBRATED.ratio_sigma,
+        green_floor=float(np.hypot(camera.green_floor, loose.green_floor)),
+        ratio_sigma=loose.ratio_sigma,
     )
     return widened, [advice.profile_camera_mismatch(made_with, taken_with)]
 
@@ -183,18 +193,21 @@ def _profile_camera(profile, photo):
 def measure(
     photo,
     region=None,
-    camera: CameraTerm = UNCALIBRATED,
+    camera: CameraTerm | None = None,
     photo_name: str = "photo",
     profile=None,
 ) -> Reading:
     """Measure one decoded photo (:class:`glowtemp.photo.Photo`) in ``region`` (found when None).
 
-    With a :class:`glowtemp.profile.CameraProfile` the camera's own ratio law replaces the
-    uncalibrated camera term (unless the profile was made in another colour space).
+    Without ``camera`` the uncalibrated camera term for the photo's kind is used (raw photos
+    have their own). With a :class:`glowtemp.profile.CameraProfile` the camera's own ratio map
+    replaces it (unless the profile was made in another colour space).
     """
+    if camera is None:
+        camera = uncalibrated_term(photo)
     region_found = region is None
     if region_found:
-        region = find_glow(photo.codes[:, :, 0])
+        region = find_glow(_finder_red(photo))
     stats = region_statistics(photo, region)
     notes, applied = [], None
     if profile is not None:

@@ -15,7 +15,8 @@ import sys
 from datetime import datetime
 from pathlib import Path
 
-from .batch import STORED_SUFFIXES, BatchError, collect_photos, measure_many
+from .batch import BatchError, collect_photos, measure_many
+from .photo import STORED_SUFFIXES
 
 LISTED_PROBLEMS = 5  # a refusal names at most this many photos
 

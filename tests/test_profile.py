@@ -217,3 +217,24 @@ def test_profile_commands(three_pair_profile, capsys):
 def test_profile_from_dict_refuses_a_damaged_record():
     with pytest.raises(ProfileError, match="damaged"):
         CameraProfile.from_dict({"format": "glowtemp-camera-profile", "version": 1, "name": "x"})
+
+
+def test_raw_photos_get_their_own_profile(tmp_path):
+    # Rendered raw captures (colour-science's NPL Nikon sensitivities) written as DNG: a raw
+    # profile fits and applies to raw photos, and is not applied to the same camera's JPEGs.
+    from glowtemp.synthetic_raw import encode_dng, render_raw
+
+    def dng(name, temperature_c, seed):
+        rendered = render_raw(temperature_c + 273.15, camera=NIKON, size=(160, 120), seed=seed)
+        (tmp_path / name).write_bytes(encode_dng(rendered))
+        return tmp_path / name
+
+    rows = [f"{dng(f'r{k}.dng', t, 30 + k).name},{t}" for k, t in enumerate((750, 1000, 1250))]
+    profile = fit_from_csv("nikon raw", write_pairs(tmp_path, rows), tmp_path / "data")
+    assert profile.camera["format"] == "DNG"
+    result = measure(load_photo(dng("check.dng", 900, 40)), profile=profile).to_dict()
+    assert result["profile"] == "nikon raw"
+    assert result["interval_95_c"][0] <= 900 <= result["interval_95_c"][1]
+    jpeg = measure(load_photo(shoot(tmp_path, "j.jpg", 900, seed=41)), profile=profile).to_dict()
+    assert jpeg["profile"] is None
+    assert "profile-not-applied" in [w["code"] for w in jpeg["warnings"]]

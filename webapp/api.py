@@ -25,7 +25,6 @@ from .errors import ApiError
 
 blueprint = Blueprint("api", __name__, url_prefix="/api")
 
-SUFFIXES = {"JPEG": ".jpg", "PNG": ".png", "TIFF": ".tif"}
 PREVIEW_LONG_SIDE_PX = 1600
 LONGEST_PHOTO_NAME = 120
 SCALE_FROM_C, SCALE_TO_C, SCALE_STEP_C = 400, 1600, 25
@@ -105,7 +104,7 @@ def _photo_name(upload) -> str:
 
 @blueprint.post("/readings")
 def create_reading():
-    from glowtemp.photo import PhotoError, load_photo
+    from glowtemp.photo import STORED_SUFFIXES, PhotoError, load_photo
 
     upload = request.files.get("photo")
     if upload is None:
@@ -123,7 +122,7 @@ def create_reading():
     result = _measure(photo, region, profile, name)
     services = _services()
     logbook = services["logbook"]
-    key = logbook.store_photo(data, SUFFIXES[photo.format])
+    key = logbook.store_photo(data, STORED_SUFFIXES[photo.format])
     taken_at = photo.metadata.taken_at or datetime.now(timezone.utc)
     reading_id = logbook.add_reading(photo_key=key, photo_name=name, result=result, taken_at=taken_at)
     services["photos"].put(key, photo)

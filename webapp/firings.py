@@ -34,7 +34,6 @@ from .errors import ApiError
 
 blueprint = Blueprint("firings", __name__)
 
-SUFFIXES = {"JPEG": ".jpg", "PNG": ".png", "TIFF": ".tif"}
 LONGEST_PHOTO_NAME = 120
 RATE_WINDOWS_H = (1.0, 2.0)
 READINGS_SHOWN = 30  # newest first; "show all" lists the rest
@@ -156,7 +155,7 @@ def _measure_upload(firing_id: int, fields: dict):
     """Measure the uploaded photo, store it and the reading with its trusted values.
 
     Returns the reading id and the decoded photo."""
-    from glowtemp.photo import PhotoError, load_photo
+    from glowtemp.photo import STORED_SUFFIXES, PhotoError, load_photo
     from glowtemp.reading import measure
     from glowtemp.region import RegionError, parse_circle, parse_region
 
@@ -177,7 +176,7 @@ def _measure_upload(firing_id: int, fields: dict):
         raise ApiError(str(error)) from None
     log = _log()
     trusted.setdefault("taken_at", photo.metadata.taken_at or datetime.now(timezone.utc))
-    key = _logbook_call(log.store_photo, data, SUFFIXES[photo.format])
+    key = _logbook_call(log.store_photo, data, STORED_SUFFIXES[photo.format])
     try:
         reading_id = _logbook_call(log.add_reading, photo_key=key, photo_name=name, result=result, firing_id=firing_id, **trusted)
     except ApiError:
