@@ -24,6 +24,7 @@ import numpy as np
 
 FINDER_SIZE_PX = 256  # long side of the reduced copy the finder works on
 RIM_SHRINK = 0.8  # keep the inner 80 % of the found area's size
+LARGEST_COORDINATE_PX = 1_000_000  # far beyond any photo's side; keeps pixel arithmetic in int64
 
 
 class RegionError(ValueError):
@@ -83,6 +84,8 @@ def _integers(text: str, count: int, form: str) -> list[int]:
         raise RegionError(f"A region needs whole numbers as {form}; got {text!r}.") from None
     if not all(np.isfinite(v) and v == int(v) for v in values):
         raise RegionError(f"A region needs whole pixel numbers as {form}; got {text!r}.")
+    if any(abs(v) > LARGEST_COORDINATE_PX for v in values):
+        raise RegionError(f"A region's numbers lie within ±{LARGEST_COORDINATE_PX} pixels; got {text!r}.")
     return [int(v) for v in values]
 
 

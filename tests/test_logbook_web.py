@@ -99,7 +99,7 @@ def test_api_reading_refusals_store_nothing(web_app, web_client, firing_id, two_
 def test_api_reading_needs_a_photo_and_a_firing(web_client, firing_id, two_halves_jpeg):
     answer = web_client.post(f"/api/firings/{firing_id}/readings", data={"note": "x"}, content_type="multipart/form-data")
     assert answer.status_code == 400 and "photo" in answer.get_json()["error"]
-    assert upload(web_client, firing_id, b"not an image").status_code == 400
+    assert upload(web_client, firing_id, b"not an image").status_code == 422
     assert upload(web_client, 999, two_halves_jpeg).status_code == 404
 
 

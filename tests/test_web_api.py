@@ -19,6 +19,11 @@ RIGHT_BOX = f"{WIDTH // 2 + 20},20,{WIDTH // 2 - 30},{HEIGHT - 40}"  # inside th
 WEB_ONLY_KEYS = {"id", "image", "preview_url"}
 
 
+def stored_name(data: bytes, suffix=".jpg") -> str:
+    """The name the server keeps an upload under: from its SHA-256 (FIPS 180-4), never the client's."""
+    return f"photo-{hashlib.sha256(data).hexdigest()[:12]}{suffix}"
+
+
 def post_photo(client, data: bytes, name="glow.jpg", **fields):
     return client.post("/api/readings", data={"photo": (io.BytesIO(data), name), **fields})
 
@@ -37,7 +42,7 @@ def test_upload_answers_the_core_reading_plus_id(web_client, two_halves_jpeg):
     body = response.get_json()
     # The web shell must not change the core's answer: same keys and values as measure() gives
     # for the same bytes (the form `glowtemp measure --json` prints).
-    expected = measure(load_photo(two_halves_jpeg), photo_name="glow.jpg").to_dict()
+    expected = measure(load_photo(two_halves_jpeg), photo_name=stored_name(two_halves_jpeg)).to_dict()
     assert {k: v for k, v in body.items() if k not in WEB_ONLY_KEYS} == expected
     assert body["image"] == {"width": WIDTH, "height": HEIGHT}
     assert isinstance(body["id"], int)
@@ -47,7 +52,7 @@ def test_upload_stores_the_photo_bytes_and_the_reading(web_app, web_client, two_
     body = post_photo(web_client, two_halves_jpeg).get_json()
     logbook = web_app.extensions["glowtemp"]["logbook"]
     stored = logbook.get_reading(body["id"])
-    assert stored["photo_name"] == "glow.jpg"
+    assert stored["photo_name"] == stored_name(two_halves_jpeg)  # the client's "glow.jpg" is not kept
     assert stored["result"]["temperature_c"] == body["temperature_c"]
     # The store is content addressed: SHA-256 of the upload (FIPS 180-4).
     key = stored["photo_key"]
@@ -73,7 +78,7 @@ def test_region_endpoint_remeasures_and_replaces_the_stored_result(web_app, web_
     assert hot["temperature_c"] > cool["temperature_c"]
     assert cool["interval_95_c"][0] <= LEFT_HALF_C <= cool["interval_95_c"][1]
     assert hot["interval_95_c"][0] > LEFT_HALF_C  # the two halves are told apart
-    direct = measure(load_photo(two_halves_jpeg), parse_region(RIGHT_BOX), photo_name="glow.jpg").to_dict()
+    direct = measure(load_photo(two_halves_jpeg), parse_region(RIGHT_BOX), photo_name=stored_name(two_halves_jpeg)).to_dict()
     assert {k: v for k, v in hot.items() if k not in WEB_ONLY_KEYS} == direct
     stored = web_app.extensions["glowtemp"]["logbook"].get_reading(reading_id)
     assert stored["result"] == direct
@@ -141,13 +146,13 @@ def test_empty_photo_file(web_app, web_client):
 
 def test_a_file_that_is_not_a_photo(web_app, web_client):
     response = post_photo(web_client, b"these are not the pixels you are looking for" * 20, name="notes.jpg")
-    assert_refused(response, 400, "", web_app)
+    assert_refused(response, 422, "", web_app)
     assert len(response.get_json()["error"]) > 10
 
 
 def test_a_truncated_jpeg(web_app, web_client, two_halves_jpeg):
     response = post_photo(web_client, two_halves_jpeg[: len(two_halves_jpeg) // 3])
-    assert_refused(response, 400, "", web_app)
+    assert_refused(response, 422, "", web_app)
 
 
 @pytest.mark.parametrize(
@@ -265,7 +270,7 @@ def test_a_chosen_profile_is_applied_on_upload_and_on_region(profiled_app):
     data = (DEMO_IMAGES / "alder_lane_1100_870C.jpg").read_bytes()
     body = post_photo(client, data, profile="kiln phone").get_json()
     profile = load_profile(profiled_app.config["DATA_DIR"], "kiln phone")
-    expected = measure(load_photo(data), photo_name="glow.jpg", profile=profile).to_dict()
+    expected = measure(load_photo(data), photo_name=stored_name(data), profile=profile).to_dict()
     assert {k: v for k, v in body.items() if k not in WEB_ONLY_KEYS} == expected
     assert body["profile"] == "kiln phone"
     # The profile was fitted on pairs that include this photo's rendered 870 °C.

@@ -20,23 +20,33 @@ NAV_AREAS = (
 )
 
 MAX_UPLOAD_BYTES = 64 * 1024 * 1024  # a 50 MP JPEG is about 25 MB; RAW-sized TIFFs fit too
+MAX_PHOTO_PIXELS = 50_000_000  # checked from the file's header before decoding (decompression bombs)
+MAX_FIELD_BYTES = 64 * 1024  # any one text field of a form, and a whole JSON or plain form body
 
 
 def create_app(config: dict | None = None) -> Flask:
     """Build the app. ``config`` may set ``DATA_DIR`` (the glowtemp data folder) and Flask keys.
 
     Without ``DATA_DIR`` the per-user data folder of :func:`glowtemp.datadir.data_dir` is used.
+    Input limits: ``MAX_CONTENT_LENGTH`` (bytes of a whole request, 413 beyond),
+    ``MAX_PHOTO_PIXELS`` (422 beyond) and ``MAX_FORM_MEMORY_SIZE`` (bytes of one text field,
+    and of a request without a file; 413 beyond).
     """
     from glowtemp.datadir import data_dir
 
     app = Flask(__name__)
-    app.config.update(MAX_CONTENT_LENGTH=MAX_UPLOAD_BYTES, DATA_DIR=None)
+    app.config.update(
+        MAX_CONTENT_LENGTH=MAX_UPLOAD_BYTES,
+        MAX_PHOTO_PIXELS=MAX_PHOTO_PIXELS,
+        MAX_FORM_MEMORY_SIZE=MAX_FIELD_BYTES,
+        DATA_DIR=None,
+    )
     app.config.update(config or {})
     app.config["DATA_DIR"] = data_dir(app.config["DATA_DIR"])
 
     from glowtemp.logbook import Logbook
 
-    from . import api, errors, firings, measuring, pages
+    from . import api, errors, firings, limits, measuring, pages
     from .photo_cache import PhotoCache
 
     app.extensions["glowtemp"] = {"logbook": Logbook(app.config["DATA_DIR"]), "photos": PhotoCache()}
@@ -45,6 +55,7 @@ def create_app(config: dict | None = None) -> Flask:
     app.register_blueprint(pages.blueprint)
     app.register_blueprint(firings.blueprint)
     errors.register(app)
+    limits.register(app)
 
     @app.context_processor
     def navigation():

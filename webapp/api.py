@@ -1,6 +1,6 @@
 """The JSON API used by the measuring page and by scripts.
 
-- ``POST /api/readings``: multipart ``photo`` (a JPEG, PNG or TIFF file), optional ``region``
+- ``POST /api/readings``: multipart ``photo`` (a JPEG, PNG, TIFF, HEIC or DNG file), optional ``region``
   (``X,Y,W,H`` or ``circle:CX,CY,R``) or ``circle`` (``CX,CY,R``), optional ``profile`` (a
   stored camera profile's name). Measures, stores the photo and the reading in the firing
   log, answers 201 with the reading's JSON form (as ``glowtemp measure --json``) plus ``id``,
@@ -17,16 +17,15 @@ Errors answer ``{"error": message}`` with a 4xx status; nothing is stored when a
 from __future__ import annotations
 
 import io
-from datetime import datetime, timezone
 
 from flask import Blueprint, current_app, jsonify, request, send_file, url_for
 
 from .errors import ApiError
+from .uploads import measure_photo, profile_from, region_from, take_upload
 
 blueprint = Blueprint("api", __name__, url_prefix="/api")
 
 PREVIEW_LONG_SIDE_PX = 1600
-LONGEST_PHOTO_NAME = 120
 SCALE_FROM_C, SCALE_TO_C, SCALE_STEP_C = 400, 1600, 25
 TICKS_C = (400, 800, 1200, 1600)
 TICKS_F = (800, 1600, 2400)
@@ -46,47 +45,6 @@ def _fields() -> dict:
     return request.form.to_dict()
 
 
-def _region(fields: dict):
-    """The region asked for, or None to let the glow finder choose."""
-    from glowtemp.region import RegionError, parse_circle, parse_region
-
-    region, circle = fields.get("region", "").strip(), fields.get("circle", "").strip()
-    if region and circle:
-        raise ApiError("Send either a region or a circle, not both.")
-    try:
-        if circle:
-            return parse_circle(circle)
-        return parse_region(region) if region else None
-    except RegionError as error:
-        raise ApiError(str(error)) from None
-
-
-def _profile(fields: dict):
-    """The camera profile asked for by name, or None for the uncalibrated estimate."""
-    name = fields.get("profile", "").strip()
-    if not name:
-        return None
-    from glowtemp.profile import ProfileError
-    from glowtemp.profile_store import load_profile
-
-    try:
-        return load_profile(current_app.config["DATA_DIR"], name)
-    except ProfileError as error:
-        raise ApiError(str(error)) from None
-
-
-def _measure(photo, region, profile, photo_name: str) -> dict:
-    from glowtemp.reading import measure
-    from glowtemp.region import RegionError
-
-    try:
-        return measure(photo, region, photo_name=photo_name, profile=profile).to_dict()
-    except RegionError as error:
-        if region is None:
-            raise ApiError(str(error), 422, draw_region=True) from None
-        raise ApiError(str(error)) from None
-
-
 def _answer(result: dict, reading_id: int, photo, status: int):
     body = {
         **result,
@@ -97,36 +55,10 @@ def _answer(result: dict, reading_id: int, photo, status: int):
     return jsonify(body), status
 
 
-def _photo_name(upload) -> str:
-    name = (upload.filename or "").strip() or "photo"
-    return name[-LONGEST_PHOTO_NAME:]
-
-
 @blueprint.post("/readings")
 def create_reading():
-    from glowtemp.photo import STORED_SUFFIXES, PhotoError, load_photo
-
-    upload = request.files.get("photo")
-    if upload is None:
-        raise ApiError("Send the photo as a file in a form field named 'photo'.")
-    data = upload.read()
-    if not data:
-        raise ApiError("The photo file is empty; take or choose the photo again.")
-    fields = _fields()
-    region, profile = _region(fields), _profile(fields)
-    try:
-        photo = load_photo(data)
-    except PhotoError as error:
-        raise ApiError(str(error)) from None
-    name = _photo_name(upload)
-    result = _measure(photo, region, profile, name)
-    services = _services()
-    logbook = services["logbook"]
-    key = logbook.store_photo(data, STORED_SUFFIXES[photo.format])
-    taken_at = photo.metadata.taken_at or datetime.now(timezone.utc)
-    reading_id = logbook.add_reading(photo_key=key, photo_name=name, result=result, taken_at=taken_at)
-    services["photos"].put(key, photo)
-    return _answer(result, reading_id, photo, 201)
+    taken = take_upload(_fields())
+    return _answer(taken.result, taken.reading_id, taken.photo, 201)
 
 
 def _stored(reading_id: int):
@@ -148,11 +80,11 @@ def _stored(reading_id: int):
 @blueprint.post("/readings/<int:reading_id>/region")
 def measure_region(reading_id: int):
     fields = _fields()
-    region, profile = _region(fields), _profile(fields)
+    region, profile = region_from(fields), profile_from(fields)
     if region is None:
         raise ApiError("Send the new region as 'region' (X,Y,W,H or circle:CX,CY,R) or 'circle' (CX,CY,R).")
     stored, photo = _stored(reading_id)
-    result = _measure(photo, region, profile, stored["photo_name"])
+    result = measure_photo(photo, region, profile, stored["photo_name"])
     _services()["logbook"].update_reading_result(reading_id, result)
     return _answer(result, reading_id, photo, 200)
 
@@ -169,7 +101,7 @@ def preview(reading_id: int):
     out = io.BytesIO()
     image.save(out, "JPEG", quality=85)
     out.seek(0)
-    return send_file(out, mimetype="image/jpeg", max_age=3600)
+    return send_file(out, mimetype="image/jpeg")
 
 
 @blueprint.get("/scale")

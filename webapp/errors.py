@@ -37,6 +37,16 @@ def _reply(message: str, status: int, **details):
     return render_template("error.html", message=message, status=status), status
 
 
+def _too_large_message(config) -> str:
+    """Which limit a 413 request broke: the whole upload's, or a text field's."""
+    length = request.content_length
+    if (length is None and request.mimetype == "multipart/form-data") or (length or 0) > config["MAX_CONTENT_LENGTH"]:
+        limit_mb = config["MAX_CONTENT_LENGTH"] // (1024 * 1024)
+        return f"The upload is larger than {limit_mb} MB; send a smaller photo."
+    limit_kb = config["MAX_FORM_MEMORY_SIZE"] // 1024
+    return f"A text field or the request body is larger than {limit_kb} KB; shorten it."
+
+
 def register(app) -> None:
     @app.errorhandler(ApiError)
     def api_error(error: ApiError):
@@ -46,8 +56,7 @@ def register(app) -> None:
     def http_error(error: HTTPException):
         status = error.code or 500
         if status == 413:
-            limit_mb = app.config["MAX_CONTENT_LENGTH"] // (1024 * 1024)
-            return _reply(f"The upload is larger than {limit_mb} MB; send a smaller photo.", 413)
+            return _reply(_too_large_message(app.config), 413)
         return _reply(PLAIN_WORDS.get(status, error.name + "."), status)
 
     @app.errorhandler(Exception)

@@ -26,15 +26,15 @@ Errors answer in plain words (JSON under /api/); nothing is stored when a reques
 from __future__ import annotations
 
 import io
-from datetime import datetime, timezone
+from datetime import datetime
 
 from flask import Blueprint, current_app, jsonify, redirect, render_template, request, send_file, url_for
 
 from .errors import ApiError
+from .uploads import take_upload
 
 blueprint = Blueprint("firings", __name__)
 
-LONGEST_PHOTO_NAME = 120
 RATE_WINDOWS_H = (1.0, 2.0)
 READINGS_SHOWN = 30  # newest first; "show all" lists the rest
 
@@ -151,50 +151,10 @@ def _reading_json(reading: dict) -> dict:
 # Measuring an upload into a firing
 
 
-def _measure_upload(firing_id: int, fields: dict):
-    """Measure the uploaded photo, store it and the reading with its trusted values.
-
-    Returns the reading id and the decoded photo."""
-    from glowtemp.photo import STORED_SUFFIXES, PhotoError, load_photo
-    from glowtemp.reading import measure
-    from glowtemp.region import RegionError, parse_circle, parse_region
-
+def _take_into(firing_id: int, fields: dict):
+    """Measure the uploaded photo into the firing, with the request's trusted values."""
     _firing(firing_id)
-    uploads = [u for u in request.files.getlist("photo") if u.filename or u.content_length]
-    upload = uploads[0] if uploads else None
-    data = upload.read() if upload else b""
-    if not data:
-        raise ApiError("Send the photo as a file in a form field named 'photo'; take or choose it again.")
-    trusted = _trusted_fields(fields)
-    region_text, circle_text = fields.get("region", "").strip(), fields.get("circle", "").strip()
-    try:
-        region = parse_circle(circle_text) if circle_text else parse_region(region_text) if region_text else None
-        photo = load_photo(data)
-        name = ((upload.filename or "").strip() or "photo")[-LONGEST_PHOTO_NAME:]
-        result = measure(photo, region, photo_name=name, profile=_profile(fields.get("profile"))).to_dict()
-    except (PhotoError, RegionError) as error:
-        raise ApiError(str(error)) from None
-    log = _log()
-    trusted.setdefault("taken_at", photo.metadata.taken_at or datetime.now(timezone.utc))
-    key = _logbook_call(log.store_photo, data, STORED_SUFFIXES[photo.format])
-    try:
-        reading_id = _logbook_call(log.add_reading, photo_key=key, photo_name=name, result=result, firing_id=firing_id, **trusted)
-    except ApiError:
-        log.forget_unused_photos([key])
-        raise
-    return reading_id, photo
-
-
-def _profile(name):
-    if not name:
-        return None
-    from glowtemp.profile import ProfileError
-    from glowtemp.profile_store import load_profile
-
-    try:
-        return load_profile(_log().data_dir, name)
-    except ProfileError as error:
-        raise ApiError(str(error)) from None
+    return take_upload(fields, firing_id=firing_id, trusted=_trusted_fields(fields))
 
 
 def _profiles() -> list[dict]:
@@ -273,8 +233,8 @@ def edit_page(firing_id: int):
 
 @blueprint.post("/firings/<int:firing_id>/readings")
 def add_reading_page(firing_id: int):
-    reading_id, _ = _measure_upload(firing_id, _page_reference(_fields()))
-    return _back_to_firing(firing_id, reading_id)
+    taken = _take_into(firing_id, _page_reference(_fields()))
+    return _back_to_firing(firing_id, taken.reading_id)
 
 
 @blueprint.post("/firings/<int:firing_id>/readings/<int:reading_id>/edit")
@@ -374,8 +334,9 @@ def api_delete(firing_id: int):
 
 @blueprint.post("/api/firings/<int:firing_id>/readings")
 def api_add_reading(firing_id: int):
-    reading_id, photo = _measure_upload(firing_id, _fields())
-    body = {**_reading_json(_log().get_reading(reading_id)), "image": {"width": photo.width, "height": photo.height}}
+    taken = _take_into(firing_id, _fields())
+    photo = taken.photo
+    body = {**_reading_json(_log().get_reading(taken.reading_id)), "image": {"width": photo.width, "height": photo.height}}
     return jsonify(body), 201
 
 

@@ -1,0 +1,147 @@
+"""Taking an uploaded photo into the firing log: checked, measured and stored, or nothing at all.
+
+Every upload goes through :func:`take_upload`: the measuring page's ``POST /api/readings`` and a
+firing's readings (its page form and ``POST /api/firings/<id>/readings``).
+
+- The cheap checks come first (region, camera profile, trusted values), then the photo is
+  decoded. Its type is decided by its content (:func:`glowtemp.photo.load_photo`), its size is
+  bounded by ``MAX_CONTENT_LENGTH`` (413, before any of it is read into the app) and its pixel
+  count by ``MAX_PHOTO_PIXELS`` (422, from the header, before any pixel is decoded).
+- The name a photo is kept under is made here from its content and format
+  (``photo-3f2a9c1b04de.jpg``): nothing the client sends, such as its file name, is stored.
+- The photo file is complete on disk before the reading's row is committed, and removed again
+  when the row is refused, so a failed upload leaves nothing behind.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import datetime, timezone
+
+from flask import current_app, request
+
+from .errors import ApiError
+
+PHOTO_FIELD = "photo"
+SHOWN_KEY_DIGITS = 12  # of the photo's SHA-256 in its name: plenty to tell a firing's photos apart
+
+
+@dataclass(frozen=True)
+class Taken:
+    """A stored reading: its id, the decoded photo and the reading's JSON form."""
+
+    reading_id: int
+    photo: object
+    result: dict
+
+
+def _text(fields: dict, name: str) -> str:
+    value = fields.get(name)
+    return "" if value is None else str(value).strip()
+
+
+def region_from(fields: dict):
+    """The region asked for (``region``: X,Y,W,H or circle:CX,CY,R; ``circle``: CX,CY,R), or None."""
+    from glowtemp.region import RegionError, parse_circle, parse_region
+
+    region, circle = _text(fields, "region"), _text(fields, "circle")
+    if region and circle:
+        raise ApiError("Send either a region or a circle, not both.")
+    try:
+        if circle:
+            return parse_circle(circle)
+        return parse_region(region) if region else None
+    except RegionError as error:
+        raise ApiError(str(error)) from None
+
+
+def profile_from(fields: dict):
+    """The stored camera profile named in ``profile``, or None for the uncalibrated estimate."""
+    name = _text(fields, "profile")
+    if not name:
+        return None
+    from glowtemp.profile import ProfileError
+    from glowtemp.profile_store import load_profile
+
+    try:
+        return load_profile(current_app.config["DATA_DIR"], name)
+    except ProfileError as error:
+        raise ApiError(str(error)) from None
+
+
+def uploaded_bytes() -> bytes:
+    """The bytes of the first non-empty ``photo`` file of the request (a page may offer two inputs)."""
+    for upload in request.files.getlist(PHOTO_FIELD):
+        data = upload.read()
+        if data:
+            return data
+    if request.files.getlist(PHOTO_FIELD):
+        raise ApiError("The photo file is empty (0 bytes); take or choose the photo again.")
+    raise ApiError(f"Send the photo as a file in a form field named '{PHOTO_FIELD}'; take or choose it again.")
+
+
+def decode(data: bytes):
+    """The decoded photo; a file that is not a usable photo is refused with 422."""
+    from glowtemp.photo import PhotoError, load_photo
+
+    try:
+        return load_photo(data, max_pixels=current_app.config["MAX_PHOTO_PIXELS"])
+    except PhotoError as error:
+        raise ApiError(str(error), 422) from None
+
+
+def measure_photo(photo, region, profile, photo_name: str) -> dict:
+    """The reading's JSON form; when the glow finder finds nothing, 422 asks for a drawn region."""
+    from glowtemp.reading import measure
+    from glowtemp.region import RegionError
+
+    try:
+        return measure(photo, region, photo_name=photo_name, profile=profile).to_dict()
+    except RegionError as error:
+        if region is None:
+            raise ApiError(str(error), 422, draw_region=True) from None
+        raise ApiError(str(error)) from None
+
+
+def stored_name(data: bytes, photo) -> str:
+    """The name a photo is shown under: made from its content and decoded format only."""
+    from glowtemp.photo import STORED_SUFFIXES
+    from glowtemp.photo_store import photo_key
+
+    suffix = STORED_SUFFIXES[photo.format]
+    return f"photo-{photo_key(data, suffix)[:SHOWN_KEY_DIGITS]}{suffix}"
+
+
+def take_upload(fields: dict, firing_id: int | None = None, trusted: dict | None = None) -> Taken:
+    """Measure the request's photo and store it with its reading (and trusted values, in a firing).
+
+    ``fields`` are the request's text fields (region, circle, profile); ``trusted`` are already
+    gathered trusted values (reference_c, cone, cone_state, note, taken_at). Raises
+    :class:`ApiError` with nothing stored when any part is refused.
+    """
+    from glowtemp.logbook import LogbookError
+    from glowtemp.photo import STORED_SUFFIXES
+
+    region, profile = region_from(fields), profile_from(fields)
+    data = uploaded_bytes()
+    photo = decode(data)
+    name = stored_name(data, photo)
+    result = measure_photo(photo, region, profile, name)
+    services = current_app.extensions["glowtemp"]
+    log = services["logbook"]
+    trusted = dict(trusted or {})
+    trusted.setdefault("taken_at", photo.metadata.taken_at or datetime.now(timezone.utc))
+    try:
+        key = log.store_photo(data, STORED_SUFFIXES[photo.format])
+    except LogbookError as error:
+        raise ApiError(str(error)) from None
+    try:
+        reading_id = log.add_reading(photo_key=key, photo_name=name, result=result, firing_id=firing_id, **trusted)
+    except LogbookError as error:
+        log.forget_unused_photos([key])
+        raise ApiError(str(error)) from None
+    except BaseException:
+        log.forget_unused_photos([key])
+        raise
+    services["photos"].put(key, photo)
+    return Taken(reading_id, photo, result)
