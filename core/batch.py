@@ -19,7 +19,6 @@ References
 from __future__ import annotations
 
 import csv
-import multiprocessing
 import os
 import sys
 from dataclasses import dataclass
@@ -83,6 +82,8 @@ def measure_file(path: str, region=None, profile=None) -> Measured:
 
 
 def start_method() -> str:
+    import multiprocessing  # loaded only for a pool: it slows every start otherwise
+
     return "forkserver" if "forkserver" in multiprocessing.get_all_start_methods() else "spawn"
 
 
@@ -107,6 +108,8 @@ def _shared_work(work, paths, jobs: int):
 
     chunk = max(1, min(MAX_CHUNK, len(paths) // (8 * jobs)))
     chunks = [paths[i : i + chunk] for i in range(0, len(paths), chunk)]
+    import multiprocessing
+
     context = multiprocessing.get_context(start_method())
     if context.get_start_method() == "forkserver":
         context.set_forkserver_preload(["glowtemp.batch", "glowtemp.reading", "glowtemp.photo"])

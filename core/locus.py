@@ -3,7 +3,7 @@
 Common correlated-colour-temperature routines start at 1000 K or higher, but glow starts near
 800 K (the Draper point), so glowtemp integrates its own table from Planck's law and the CIE
 1931 2-degree colour-matching functions (shipped in ``data/``, exported from colour-science by
-``scripts/export_cmf_table.py``). The table takes a few milliseconds and is cached per process.
+``scripts/export_tables.py``). The integrated table is shipped too, so no start pays for it.
 
 Below about 1500 K a blackbody lies outside the sRGB gamut: its linear sRGB blue is negative.
 A camera clips such components to zero, so :func:`clipped_linear_rgb` returns what an ideal
@@ -71,11 +71,18 @@ class BlackbodyTable:
         return xyz_to_xy(self.xyz)
 
 
+def table_grid() -> np.ndarray:
+    """The table's temperatures: 700 K to 4000 K in 1 K steps."""
+    return np.arange(TABLE_MIN_K, TABLE_MAX_K + TABLE_STEP_K / 2, TABLE_STEP_K)
+
+
 @lru_cache(maxsize=1)
 def blackbody_table() -> BlackbodyTable:
-    """The cached blackbody table (computed on first use, a few milliseconds)."""
-    grid = np.arange(TABLE_MIN_K, TABLE_MAX_K + TABLE_STEP_K / 2, TABLE_STEP_K)
-    return BlackbodyTable(temperature_k=grid, xyz=blackbody_xyz(grid))
+    """The blackbody table, read from ``data/blackbody_xyz.npy`` (written by
+    ``scripts/export_tables.py`` with :func:`blackbody_xyz`; a test checks it stays equal)."""
+    with (resources.files(__package__) / "data" / "blackbody_xyz.npy").open("rb") as handle:
+        xyz = np.load(handle)
+    return BlackbodyTable(temperature_k=table_grid(), xyz=xyz)
 
 
 def clipped_linear_rgb(xyz, space: RGBSpace = SRGB):

@@ -6,7 +6,9 @@ taken from the embedded ICC profile, from EXIF, or assumed sRGB. Linearising any
 is then one fancy-index, ``decode_table[channel, code]``.
 
 Pillow reads JPEG, PNG and TIFF, their ICC profiles and EXIF. Pillow reduces 16-bit RGB to
-8 bits, so 16-bit PNG pixels are read with pypng and 16-bit TIFF pixels with tifffile. HEIC
+8 bits, so 16-bit PNG pixels are read with libpng and 16-bit TIFF pixels with tifffile (both
+with the codecs of imagecodecs); complete RGB JPEGs are decoded by libjpeg-turbo through
+imagecodecs straight into an array, which saves Pillow's copy of a 12-megapixel image. HEIC
 (HEIF with HEVC, what many phones save) is read through Pillow with pillow-heif (libheif),
 which turns the image upright by the file's own transforms and keeps ICC profile and EXIF;
 raw DNG files go to :mod:`glowtemp.raw`.
@@ -56,8 +58,8 @@ TAG_DATETIME_ORIGINAL, TAG_COLOR_SPACE, TAG_WHITE_BALANCE = 0x9003, 0xA001, 0xA4
 TAG_INTEROP_INDEX = 0x0001
 TIFF_BYTE_ORDERS = (b"II", b"MM")  # TIFF 6.0 header; a DNG is a TIFF
 
-# What a failing decoder may raise on damaged input (Pillow, tifffile, zlib; pypng's own
-# errors are translated where it is called). pypng and tifffile load only for 16-bit files.
+# What a failing decoder may raise on damaged input (Pillow, tifffile, zlib; libpng's own
+# errors are translated where it is called). The 16-bit decoders load only when needed.
 DECODER_FAILURES = (
     OSError, ValueError, SyntaxError, EOFError, IndexError, KeyError, TypeError,
     struct.error, zlib.error, Image.DecompressionBombError,
@@ -334,18 +336,35 @@ def _pillow_pixels(image: Image.Image) -> np.ndarray:
 
 
 def _png16_pixels(data: bytes) -> np.ndarray:
-    """16-bit PNG pixels with pypng (PNG 3rd ed., ISO/IEC 15948): (H, W, 3) uint16."""
-    import png
+    """16-bit PNG pixels with libpng through imagecodecs (PNG 3rd ed., ISO/IEC 15948)."""
+    from imagecodecs import _png
 
     try:
-        width, height, rows, info = png.Reader(bytes=data).read()
-        planes = info["planes"]
-        pixels = np.empty((height, width * planes), dtype=np.uint16)
-        for index, row in enumerate(rows):
-            pixels[index] = row
-    except png.Error as error:
+        pixels = _png.png_decode(data)
+    except _png.PngError as error:
         raise ValueError(str(error)) from error
-    return _three_channels(pixels.reshape(height, width, planes), colour=not info["greyscale"])
+    if pixels.ndim == 2:
+        pixels = pixels[:, :, None]
+    return _three_channels(pixels.astype(np.uint16, copy=False), colour=pixels.shape[2] >= 3)
+
+
+def _jpeg_pixels(data: bytes, image: Image.Image) -> np.ndarray | None:
+    """Baseline or progressive RGB JPEG decoded by libjpeg-turbo straight into an array.
+
+    The same library as Pillow's, without Pillow's copy out of its own image memory. Used only
+    for a complete file (ending in the EOI marker, ITU-T T.81 B.2.1), since a truncated one is
+    decoded without complaint; anything else returns None and goes the Pillow way.
+    """
+    if not data.rstrip(b"\x00").endswith(b"\xff\xd9"):
+        return None
+    from imagecodecs import _jpeg8
+
+    try:
+        pixels = _jpeg8.jpeg8_decode(data)
+    except _jpeg8.Jpeg8Error:
+        return None
+    width, height = image.size
+    return pixels if pixels.shape == (height, width, 3) else None
 
 
 def _tiff16_pixels(data: bytes) -> np.ndarray:
@@ -381,6 +400,10 @@ def _pixels(image: Image.Image, data: bytes, fmt: str) -> np.ndarray:
             return _png16_pixels(data)
         if fmt == "TIFF" and 16 in np.atleast_1d(image.tag_v2.get(258, 8)):  # BitsPerSample
             return _tiff16_pixels(data)
+        if fmt == "JPEG" and image.mode == "RGB":
+            fast = _jpeg_pixels(data, image)
+            if fast is not None:
+                return fast
         return _pillow_pixels(image)
     except PhotoError:
         raise

@@ -5,10 +5,10 @@ true value is unknown and its colour ratios are wrong), too *dark* to carry colo
 *outlier* whose green/red ratio lies far from the region's median (a reflection or a speck).
 Outliers are judged robustly by the median absolute deviation (Hampel's identifier).
 
-A large region is sampled evenly (every k-th usable pixel) down to about 131 000 pixels: with
-one independent sample per 16 pixels that still gives a statistical error far below the camera
-term, and it keeps a 12-megapixel photo fast. Pixel counts refer to the sampled pixels, except
-the clipped count, which is over the whole region.
+A large region is sampled on an even grid (every k-th pixel across and down) to about 131 000
+pixels: with one independent sample per 16 pixels that still gives a statistical error far
+below the camera term, and it keeps a 12-megapixel photo fast. Pixel counts refer to the
+sampled grid.
 
 Light that is not glow (daylight, shop lamps) is broad-band: it lifts every channel of the
 surroundings, where glow lifts red alone. So the surroundings' weakest channel, relative to the
@@ -43,7 +43,7 @@ DARK_RELATIVE = 0.15  # ... or below this share of the region's bright (99th per
 OUTLIER_MADS = 6.0  # Hampel identifier cut, in robust standard deviations
 PIXELS_PER_INDEPENDENT_SAMPLE = 16  # correlation area of demosaicing + 4:2:0 chroma + DCT (hedge)
 DITHER_CODES = 0.5  # pixel scatter (in code steps) above which quantisation averages out
-MAX_SAMPLE_PIXELS = 1 << 17  # larger regions are sampled evenly down to this many pixels
+MAX_SAMPLE_PIXELS = 1 << 17  # larger regions are sampled on an even grid to about this many
 BACKGROUND_STEP_PX = 256  # the background is judged on a copy reduced to about this long side
 
 
@@ -75,7 +75,7 @@ class RegionStatistics:
         }
 
 
-def _near_clipped(window: np.ndarray, max_code: int) -> np.ndarray:
+def _near_clipped(window: np.ndarray, max_code: int, reach: int) -> np.ndarray:
     """Pixels with a channel at or near full scale, and their neighbours within CLIP_REACH_PX.
 
     Neighbours are dropped too: demosaicing and JPEG's 8 x 8 blocks spread a blown-out pixel's
@@ -83,7 +83,7 @@ def _near_clipped(window: np.ndarray, max_code: int) -> np.ndarray:
     """
     limit = CLIP_FRACTION * max_code
     near = (window[..., 0] >= limit) | (window[..., 1] >= limit) | (window[..., 2] >= limit)
-    for _ in range(CLIP_REACH_PX):
+    for _ in range(reach):
         near = dilate(near)
     return near
 
@@ -97,7 +97,8 @@ def _robust_keep(values: np.ndarray, floor: float) -> np.ndarray:
 def _background_level(photo, region, region_red: float) -> float:
     step = max(1, int(np.ceil(max(photo.width, photo.height) / BACKGROUND_STEP_PX)))
     codes = photo.codes[::step, ::step]
-    ys, xs = np.mgrid[0 : photo.height : step, 0 : photo.width : step]
+    ys = np.arange(0, photo.height, step)[:, None]
+    xs = np.arange(0, photo.width, step)[None, :]
     x0, y0, x1, y1 = region.bounds()
     outside = (xs < x0) | (xs >= x1) | (ys < y0) | (ys >= y1)
     if not outside.any() or region_red <= 0:
@@ -109,16 +110,15 @@ def _background_level(photo, region, region_red: float) -> float:
 def region_statistics(photo, region) -> RegionStatistics:
     """Mask a region of ``photo`` (a :class:`glowtemp.photo.Photo`) and summarise its usable pixels."""
     rows, cols, inside = region_window(region, photo.width, photo.height)
-    window = photo.codes[rows, cols]
-    near_clipped = _near_clipped(window, photo.max_code)
+    step = int(np.ceil(np.sqrt(inside.sum() / MAX_SAMPLE_PIXELS)))  # 1 unless the region is large
+    window, inside = photo.codes[rows, cols][::step, ::step], inside[::step, ::step]
+    near_clipped = _near_clipped(window, photo.max_code, max(1, CLIP_REACH_PX // step))
     total = int(inside.sum())
     clipped_count = int((near_clipped & inside).sum())
     codes = window[inside & ~near_clipped]
-    if len(codes) > MAX_SAMPLE_PIXELS:  # an even spread of pixels is plenty (see module notes)
-        codes = codes[:: int(np.ceil(len(codes) / MAX_SAMPLE_PIXELS))]
     linear = photo.linear(codes)
     red = linear[:, 0]
-    bright_red = float(np.percentile(red, 99)) if len(red) else 0.0
+    bright_red = float(np.partition(red, len(red) * 99 // 100)[len(red) * 99 // 100]) if len(red) else 0.0
     lit = red >= max(DARK_FLOOR_LINEAR, DARK_RELATIVE * bright_red)
     codes, linear = codes[lit], linear[lit]
     keep = np.ones(len(linear), dtype=bool)

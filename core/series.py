@@ -15,8 +15,6 @@ import sys
 from datetime import datetime
 from pathlib import Path
 
-from .batch import BatchError, collect_photos, measure_many
-from .photo import STORED_SUFFIXES
 
 LISTED_PROBLEMS = 5  # a refusal names at most this many photos
 
@@ -31,6 +29,8 @@ def _named(items) -> str:
 
 
 def measured_series(paths, *, region=None, profile=None, jobs=None, progress=None) -> list:
+    from .batch import measure_many
+
     """(taken_at, Measured) for every photo, in time order; raises :class:`SeriesError` if any
     photo cannot be measured or has no EXIF time."""
     measured = list(measure_many(paths, region=region, profile=profile, jobs=jobs, progress=progress))
@@ -49,6 +49,8 @@ def measured_series(paths, *, region=None, profile=None, jobs=None, progress=Non
 
 def firing_from_photos(log, name: str, paths, *, region=None, profile=None, jobs=None, progress=None, kind="glaze") -> int:
     """Create a firing named ``name`` from photo files; returns its id. All or nothing."""
+    from .photo import STORED_SUFFIXES
+
     series = measured_series(paths, region=region, profile=profile, jobs=jobs, progress=progress)
     firing_id = log.create_firing(name=name, kind=kind, started_at=series[0][0])
     stored = []
@@ -68,6 +70,8 @@ def firing_from_photos(log, name: str, paths, *, region=None, profile=None, jobs
 
 
 def _from_photos(args) -> int:
+    from .batch import BatchError, collect_photos
+
     from .datadir import data_dir
     from .logbook import Logbook, LogbookError
 

@@ -47,6 +47,13 @@ def test_table_inverts_through_ohno_2013(temperature_k):
     assert abs(duv) < 2e-4
 
 
+def test_shipped_table_equals_a_fresh_integration():
+    # The shipped data/blackbody_xyz.npy must be what Planck's law integrated against the CMFs
+    # gives now (rerun scripts/export_tables.py after changing either).
+    table = locus.blackbody_table()
+    np.testing.assert_allclose(table.xyz, locus.blackbody_xyz(table.temperature_k), rtol=1e-12)
+
+
 def test_table_spans_700_to_4000_kelvin_by_one_kelvin():
     grid = locus.blackbody_table().temperature_k
     assert grid[0] == 700.0 and grid[-1] == 4000.0

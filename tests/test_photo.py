@@ -1,4 +1,3 @@
-import importlib.util
 import io
 import json
 from datetime import datetime
@@ -216,14 +215,20 @@ def test_16_bit_tiff_planar_and_greyscale():
     np.testing.assert_allclose(photo.linear(photo.codes[5, 7]), srgb_decoded(grey[5, 7], 65535), atol=1e-6)
 
 
-def test_16_bit_lzw_tiff_decodes_or_names_the_missing_codec():
+def test_16_bit_lzw_tiff_decodes():
+    # Written by libtiff (through Pillow) with LZW; read back by tifffile with imagecodecs' LZW.
     grey = RNG.integers(0, 65536, (48, 64), dtype=np.uint16)
-    data = saved(Image.fromarray(grey), "TIFF", compression="tiff_lzw")  # libtiff LZW
-    if importlib.util.find_spec("imagecodecs"):  # tifffile decodes LZW with imagecodecs
-        np.testing.assert_array_equal(load_photo(data).codes[:, :, 0], grey)
-    else:
-        with pytest.raises(PhotoError, match="LZW compression"):
-            load_photo(data)
+    data = saved(Image.fromarray(grey), "TIFF", compression="tiff_lzw")
+    np.testing.assert_array_equal(load_photo(data).codes[:, :, 0], grey)
+
+
+def test_jpeg_fast_path_matches_pillows_decode_and_still_refuses_truncation():
+    # Reference decoder: Pillow (libjpeg-turbo). A file cut short must still be refused.
+    codes = RNG.integers(0, 256, (48, 64, 3), dtype=np.uint8)
+    data = saved(Image.fromarray(codes, "RGB"), "JPEG", quality=90)
+    np.testing.assert_array_equal(load_photo(data).codes, np.asarray(Image.open(io.BytesIO(data))))
+    with pytest.raises(PhotoError, match="truncated or damaged"):
+        load_photo(data[: len(data) * 2 // 3])
 
 
 # --- pixel formats ------------------------------------------------------------------------------
