@@ -22,7 +22,8 @@ import time
 import numpy as np
 
 from glowtemp.photo import load_photo
-from glowtemp.profile import Pair, fit_profile, ideal_green_ratio, pair_green_ratio, thermocouple_sigma_c
+from glowtemp.profile import Pair, fit_profile, pair_green_ratio, thermocouple_sigma_c
+from glowtemp.profile_store import camera_settings
 from glowtemp.reading import measure
 from glowtemp.synthetic import encode_jpeg, render_photo
 from glowtemp.synthetic_camera import CAMERAS, parametric_camera
@@ -107,7 +108,7 @@ def make_pairs(camera, seed_base):
         reference = temperature_c + rng.uniform(-tolerance, tolerance)
         ratio, sigma = pair_green_ratio(reading.statistics.mean_linear, reading.statistics.standard_error)
         pairs.append((Pair(f"pair-{temperature_c:.0f}", ratio, sigma, reference, thermocouple_sigma_c(reference)),
-                      reading.estimate.temperature_k, photo.space))
+                      reading.estimate.temperature_k, photo))
     return pairs
 
 
@@ -134,7 +135,8 @@ def calibrated(seeds):
     profiles, corrections, laws = {}, {}, {}
     for index, name in enumerate(names):
         pairs = make_pairs(BENCH_CAMERAS[name], 1000 + 10 * index)
-        profiles[name] = fit_profile(name, [p for p, _, _ in pairs], pairs[0][2], {}, "bench")
+        first = pairs[0][2]
+        profiles[name] = fit_profile(name, [p for p, _, _ in pairs], first.space, camera_settings(first), "bench")
         corrections[name] = reciprocal_correction(pairs)
         laws[name] = log_ratio_law(pairs)
     inside, outside, all_results = [], [], []

@@ -23,7 +23,9 @@ breaks; the affine map generalised best, inside and outside the pairs' span.
 
 - One pair fixes the offset only; the gain is 1 with a prior spread sized on the benchmark cameras.
 - Two pairs fix offset and gain; the scatter about the map is a prior value.
-- Three or more pairs also measure the scatter from the residuals.
+- Three or more pairs also measure the scatter from the residuals, pooled with the prior value
+  (weight of two pairs) so that three pairs that happen to agree do not make a band too narrow
+  (Gelman et al., Bayesian Data Analysis, 3rd ed., section 3.2: scaled inverse chi-square prior).
 
 References
 ----------
@@ -49,6 +51,7 @@ PROFILE_FORMAT = "glowtemp-camera-profile"
 PROFILE_VERSION = 1
 PRIOR_GAIN_SIGMA = 0.1  # gain spread between cameras, for one-pair profiles
 PRIOR_SCATTER = 0.003  # green/red scatter about the map when too few pairs measure it
+PRIOR_SCATTER_DOF = 2  # weight of that prior, in pairs, when pairs do measure it
 SPAN_MARGIN_C = 25.0  # readings this far outside the pairs' span are flagged
 MIN_RATIO_SIGNAL = 3.0  # a recorded green/red below this many standard errors carries no map
 
@@ -149,8 +152,12 @@ def fit_ratio_map(pairs: list[Pair], space: RGBSpace) -> RatioMap:
     if len(pairs) == 2:
         return RatioMap(float(offset), float(gain), covariance, PRIOR_SCATTER, False)
     residual = y - (offset + gain * x)
-    scatter_sq = max(float((residual**2).sum()) / (len(pairs) - 2) - float(np.mean(1.0 / weights)), 0.0)
-    scatter = float(np.sqrt(scatter_sq))
+    dof = len(pairs) - 2
+    measured_sq = max(float((residual**2).sum()) / dof - float(np.mean(1.0 / weights)), 0.0)
+    # A scatter measured on few degrees of freedom is itself uncertain: pool it with the prior
+    # as a scaled inverse chi-square prior of PRIOR_SCATTER_DOF pseudo-observations would.
+    pooled = (dof * measured_sq + PRIOR_SCATTER_DOF * PRIOR_SCATTER**2) / (dof + PRIOR_SCATTER_DOF)
+    scatter = float(np.sqrt(pooled))
     chi2_dof = float((residual**2 * weights).sum()) / (len(pairs) - 2)
     return RatioMap(float(offset), float(gain), covariance * max(chi2_dof, 1.0), scatter, True)
 

@@ -175,7 +175,7 @@ def read_pairs(csv_path: Path, data_dir: Path):
         except (PhotoError, RegionError, ProfileError) as error:
             raise ProfileError(f"Row {number} ({name}): {error}") from None
         if space is None:
-            space, camera = photo.space, _camera_settings(photo)
+            space, camera = photo.space, camera_settings(photo)
         elif photo.space.name != space.name:
             raise ProfileError(
                 f"Row {number} ({name}): saved in {photo.space.name}, but earlier rows are "
@@ -189,7 +189,8 @@ def read_pairs(csv_path: Path, data_dir: Path):
     return pairs, camera, space
 
 
-def _camera_settings(photo) -> dict:
+def camera_settings(photo) -> dict:
+    """The camera and settings a profile records from a photo's EXIF, to spot other cameras."""
     meta = photo.metadata
     return {
         "format": photo.format,

@@ -110,7 +110,7 @@ def test_many_pairs_measure_their_scatter():
     assert fitted.scatter_measured
     assert 0.002 < fitted.scatter < 0.007  # the 0.004 scatter put in, recovered roughly
     clean = fit_ratio_map([pair_at(t) for t in range(800, 1351, 50)], SRGB)
-    assert clean.scatter < 0.001
+    assert clean.scatter < 0.0015  # only the prior's pooled share (2 of 12 pseudo-pairs) is left
 
 
 def test_profile_file_reads_back_identically(tmp_path):
