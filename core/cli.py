@@ -189,12 +189,25 @@ def describe(result: dict) -> str:
 
 def _serve(args) -> int:
     from .datadir import data_dir
-    from .web.server import serve
+    from .logbook import LogbookError
+    from .web.server import lan_address, serve
 
+    host = lan_address() if args.lan else args.host
+    if host is None:
+        print("glowtemp: this computer has no address on a local network; connect it, or give --host.", file=sys.stderr)
+        return 1
+    limits = {}
+    if args.max_upload_mb is not None:
+        limits["MAX_CONTENT_LENGTH"] = int(args.max_upload_mb * 1024 * 1024)
+    if args.max_megapixels is not None:
+        limits["MAX_PHOTO_PIXELS"] = int(args.max_megapixels * 1e6)
     try:
-        serve(args.host, args.port, data_dir(args.data), args.demo)
+        serve(host, args.port, data_dir(args.data), args.demo, pairing=True if args.pair else None, limits=limits)
+    except LogbookError as error:
+        print(f"glowtemp: {error}", file=sys.stderr)
+        return 1
     except OSError as error:
-        print(f"glowtemp: cannot serve on {args.host}:{args.port}: {error.strerror or error}", file=sys.stderr)
+        print(f"glowtemp: cannot serve on {host}:{args.port}: {error.strerror or error}", file=sys.stderr)
         return 1
     return 0
 
@@ -238,17 +251,25 @@ def build_parser() -> argparse.ArgumentParser:
     profile.set_defaults(run=_profile_command)
 
     serve = commands.add_parser("serve", help="run the web page for phones (waitress)")
-    serve.add_argument("--host", default="127.0.0.1", help="address to listen on (0.0.0.0: the whole LAN)")
+    reach = serve.add_mutually_exclusive_group()
+    reach.add_argument("--host", default="127.0.0.1", help="address to listen on (default: this computer only)")
+    reach.add_argument("--lan", action="store_true", help="listen on the local network; phones pair with a code")
+    serve.add_argument("--pair", action="store_true",
+                       help="ask every device to pair, even on this computer's address (e.g. behind a reverse proxy)")
     serve.add_argument("--port", type=int, default=8000, help="port to listen on (0: any free port)")
+    serve.add_argument("--max-upload-mb", type=float, metavar="MB", help="largest upload accepted (default 64)")
+    serve.add_argument("--max-megapixels", type=float, metavar="MP", help="largest photo accepted (default 50)")
     serve.add_argument("--data", metavar="DIR", help="data folder (profiles, firing log)")
     serve.add_argument("--demo", metavar="DIR", help="add the demo photos in DIR to the firing log first")
     serve.set_defaults(run=_serve)
 
     from .logbook_cli import add_logbook_commands  # firings, export, import (lazy handlers)
     from .series import add_series_commands  # firing from-photos (lazy handler)
+    from .upkeep_cli import add_upkeep_commands  # backup, sessions (lazy handlers)
 
     add_logbook_commands(commands)
     add_series_commands(commands)
+    add_upkeep_commands(commands)
     return parser
 
 

@@ -29,6 +29,7 @@ __all__ = ["Logbook", "LogbookError"]
 DATABASE_NAME = "glowtemp.sqlite3"
 PHOTOS_FOLDER = "photos"
 BUSY_TIMEOUT_S = 10.0
+ORPHAN_GRACE_S = 3600.0  # a photo no row names is swept only when older than this
 
 FIRING_COLUMNS = (
     "id", "name", "kiln", "kind", "target_c", "target_cone",
@@ -63,9 +64,10 @@ class Logbook:
         self.data_dir = Path(data_dir)
         self.data_dir.mkdir(parents=True, exist_ok=True)
         self.photos = PhotoStore(self.data_dir / PHOTOS_FOLDER)
+        self.database_path = self.data_dir / DATABASE_NAME
         self._lock = threading.RLock()
         self._db = sqlite3.connect(
-            self.data_dir / DATABASE_NAME,
+            self.database_path,
             timeout=BUSY_TIMEOUT_S,
             isolation_level=None,
             check_same_thread=False,
@@ -127,6 +129,46 @@ class Logbook:
             for key in set(keys):
                 if not self._read("SELECT 1 FROM readings WHERE photo_key = ? LIMIT 1", (key,)):
                     self.photos.remove(key)
+
+    # Health, checked when the server starts
+
+    def check_database(self) -> None:
+        """Run SQLite's ``PRAGMA quick_check``; a damaged database raises :class:`LogbookError`."""
+        try:
+            problems = [row[0] for row in self._read("PRAGMA quick_check")]
+        except sqlite3.DatabaseError as error:
+            problems = [str(error)]
+        if problems != ["ok"]:
+            shown = "; ".join(problems[:3]) + (f" (and {len(problems) - 3} more)" if len(problems) > 3 else "")
+            raise LogbookError(
+                f"The firing log database {self.database_path} is damaged ({shown}). Stop glowtemp, keep a "
+                f"copy of the folder {self.data_dir} as it is, and restore the latest copy made with "
+                "'glowtemp backup' (or run sqlite3's .recover on the copy)."
+            )
+
+    def counts(self) -> dict:
+        """How many firings and readings (in a firing or not) the log holds."""
+        firings = self._read("SELECT COUNT(*) FROM firings")[0][0]
+        readings = self._read("SELECT COUNT(*) FROM readings")[0][0]
+        return {"firings": firings, "readings": readings}
+
+    def missing_photos(self) -> list[str]:
+        """Keys named by readings whose photo file is not in the store (should never happen)."""
+        keys = [row[0] for row in self._read("SELECT DISTINCT photo_key FROM readings ORDER BY photo_key")]
+        return [key for key in keys if not self.photos.exists(key)]
+
+    def forget_orphan_photos(self, older_than_s: float = ORPHAN_GRACE_S) -> int:
+        """Remove whole photos that no reading names, left by a writer killed between storing a
+        photo and committing its row; returns how many. Only photos older than ``older_than_s``
+        go, since another process (an import) may be about to commit rows for younger ones."""
+        removed = 0
+        with self._lock:
+            named = {row[0] for row in self._read("SELECT DISTINCT photo_key FROM readings")}
+            for key in self.photos.keys():
+                if key not in named and self.photos.age_s(key) > older_than_s:
+                    self.photos.remove(key)
+                    removed += 1
+        return removed
 
     # Firings
 
@@ -206,13 +248,13 @@ class Logbook:
         )
         _check_cone_pair(values["cone"], values["cone_state"])
         values.update(
-            photo_key=self._stored_key(photo_key),
             photo_name=fields.text(photo_name, "photo name", required=True),
             result_json=self._result_json(result),
             created_at=fields.utc_now(),
             **result_columns(result),
         )
         with self._write() as db:
+            values["photo_key"] = self._stored_key(photo_key)  # under the lock: see forget_unused_photos
             if firing_id is not None:
                 self._need_firing(firing_id)
             values["firing_id"] = firing_id
@@ -224,6 +266,8 @@ class Logbook:
         return db.execute(f"INSERT INTO readings ({names}) VALUES ({marks})", list(values.values())).lastrowid
 
     def _stored_key(self, key) -> str:
+        """``key`` if its photo is in the store. Checked with the lock held before a row names the
+        photo, so a concurrent :meth:`forget_unused_photos` (which holds it too) cannot remove it."""
         if not self.photo_path(key).is_file():
             raise LogbookError(f"The photo {key} is not in the photo store; store it before recording a reading.")
         return key

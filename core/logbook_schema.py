@@ -6,7 +6,8 @@ newer glowtemp (a version this code does not know) is refused rather than guesse
 
 Version 1 kept each reading's result as JSON only. Version 2 adds columns for the estimate
 and its bands (what the firing curve and queries read), filled in from the stored JSON, and
-indexes for a firing's readings and for photo references.
+indexes for a firing's readings and for photo references. Version 3 adds the devices paired
+with the web server (:mod:`glowtemp.sessions`), by a digest of their session secret.
 """
 
 from __future__ import annotations
@@ -65,6 +66,15 @@ CREATE INDEX readings_by_firing ON readings (firing_id, taken_at);
 CREATE INDEX readings_by_photo ON readings (photo_key);
 """
 
+VERSION_3 = """
+CREATE TABLE sessions (
+    id INTEGER PRIMARY KEY,
+    secret_sha256 TEXT NOT NULL UNIQUE,
+    paired_at TEXT NOT NULL,
+    paired_from TEXT
+);
+"""
+
 RESULT_COLUMNS = (
     "status",
     "temperature_c",
@@ -121,7 +131,7 @@ def _version_2(connection: sqlite3.Connection) -> None:
     _fill_result_columns(connection)
 
 
-MIGRATIONS = {1: _run_script(VERSION_1), 2: _version_2}
+MIGRATIONS = {1: _run_script(VERSION_1), 2: _version_2, 3: _run_script(VERSION_3)}
 CURRENT_VERSION = max(MIGRATIONS)
 
 

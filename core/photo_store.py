@@ -15,6 +15,7 @@ import hashlib
 import os
 import re
 import secrets
+import time
 from pathlib import Path
 
 KEY_PATTERN = re.compile(r"[0-9a-f]{64}\.[a-z0-9]{1,8}")
@@ -46,7 +47,8 @@ def check_key(key: str) -> str:
     return key
 
 
-def _sync_folder(folder: Path) -> None:
+def sync_folder(folder: Path) -> None:
+    """Flush a folder's entries (new and renamed files) to disk."""
     descriptor = os.open(folder, os.O_RDONLY)
     try:
         os.fsync(descriptor)
@@ -93,6 +95,7 @@ class PhotoStore:
         key = photo_key(bytes(data), suffix)
         final = self.folder / key
         if final.exists():
+            os.utime(final)  # stored again just now: not an old orphan (Logbook.forget_orphan_photos)
             return key
         temporary = self.folder / f"{TEMPORARY_PREFIX}{os.getpid()}-{secrets.token_hex(8)}"
         try:
@@ -104,11 +107,15 @@ class PhotoStore:
         except BaseException:
             temporary.unlink(missing_ok=True)
             raise
-        _sync_folder(self.folder)
+        sync_folder(self.folder)
         return key
 
     def exists(self, key: str) -> bool:
         return self.path(key).is_file()
+
+    def age_s(self, key: str) -> float:
+        """Seconds since the photo was stored (its file's modification time)."""
+        return time.time() - self.path(key).stat().st_mtime
 
     def remove(self, key: str) -> None:
         self.path(key).unlink(missing_ok=True)

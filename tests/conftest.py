@@ -109,11 +109,13 @@ def chromium_browser():
 
 @pytest.fixture
 def browser_page(chromium_browser):
-    """A phone-sized page in its own context (empty local storage); JavaScript errors fail the test."""
+    """A phone-sized page in its own context (empty local storage); JavaScript errors and anything
+    the Content-Security-Policy blocks fail the test."""
     context = chromium_browser.new_context(viewport=PHONE_VIEWPORT, device_scale_factor=2, has_touch=True)
     page = context.new_page()
     errors = []
     page.on("pageerror", lambda error: errors.append(str(error)))
+    page.on("console", lambda message: errors.append(message.text) if "Content Security Policy" in message.text else None)
     yield page
     context.close()
     assert not errors, f"JavaScript errors on the page: {errors}"

@@ -1,7 +1,9 @@
 """The glowtemp web app: a Flask application factory and one blueprint per area.
 
 Areas: ``measuring`` (the phone page that takes a photo and shows the reading), ``api`` (the
-JSON calls the page and scripts use), ``pages`` (safety notes). Other areas register their own
+JSON calls the page and scripts use), ``pages`` (safety notes), ``firings`` (the firing log) and
+``access`` (pairing a device). Every request passes the checks of :mod:`.access` and
+:mod:`.limits`; every answer gets the headers of :mod:`.headers`. Other areas register their own
 blueprint in :func:`create_app`; an area whose blueprint has an ``index`` endpoint listed in
 ``NAV_AREAS`` appears in the top bar of ``templates/base.html``.
 """
@@ -28,6 +30,7 @@ def create_app(config: dict | None = None) -> Flask:
     """Build the app. ``config`` may set ``DATA_DIR`` (the glowtemp data folder) and Flask keys.
 
     Without ``DATA_DIR`` the per-user data folder of :func:`glowtemp.datadir.data_dir` is used.
+    ``PAIRING`` True asks every device to pair first (:mod:`glowtemp.web.access`).
     Input limits: ``MAX_CONTENT_LENGTH`` (bytes of a whole request, 413 beyond),
     ``MAX_PHOTO_PIXELS`` (422 beyond) and ``MAX_FORM_MEMORY_SIZE`` (bytes of one text field,
     and of a request without a file; 413 beyond).
@@ -45,17 +48,27 @@ def create_app(config: dict | None = None) -> Flask:
     app.config["DATA_DIR"] = data_dir(app.config["DATA_DIR"])
 
     from glowtemp.logbook import Logbook
+    from glowtemp.sessions import SessionStore
 
-    from . import api, errors, firings, limits, measuring, pages
+    from . import access, api, errors, firings, headers, limits, measuring, pages
+    from .pairing import PairingCodes
     from .photo_cache import PhotoCache
 
-    app.extensions["glowtemp"] = {"logbook": Logbook(app.config["DATA_DIR"]), "photos": PhotoCache()}
+    logbook = Logbook(app.config["DATA_DIR"])
+    app.extensions["glowtemp"] = {
+        "logbook": logbook,
+        "photos": PhotoCache(),
+        "sessions": SessionStore(logbook.database_path),
+        "pairing": PairingCodes() if app.config.get("PAIRING") else None,
+    }
+    access.register(app)
+    limits.register(app)
     app.register_blueprint(measuring.blueprint)
     app.register_blueprint(api.blueprint)
     app.register_blueprint(pages.blueprint)
     app.register_blueprint(firings.blueprint)
     errors.register(app)
-    limits.register(app)
+    headers.register(app)
 
     @app.context_processor
     def navigation():

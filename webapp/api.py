@@ -20,6 +20,7 @@ import io
 
 from flask import Blueprint, current_app, jsonify, request, send_file, url_for
 
+from .access import TOKEN_FIELD
 from .errors import ApiError
 from .uploads import measure_photo, profile_from, region_from, take_upload
 
@@ -42,7 +43,7 @@ def _fields() -> dict:
         if not isinstance(body, dict):
             raise ApiError("The request body must be a JSON object such as {\"region\": \"10,10,50,50\"}.")
         return {key: "" if value is None else str(value) for key, value in body.items()}
-    return request.form.to_dict()
+    return {key: value for key, value in request.form.items() if key != TOKEN_FIELD}
 
 
 def _answer(result: dict, reading_id: int, photo, status: int):

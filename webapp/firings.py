@@ -30,7 +30,9 @@ from datetime import datetime
 
 from flask import Blueprint, current_app, jsonify, redirect, render_template, request, send_file, url_for
 
+from .access import TOKEN_FIELD
 from .errors import ApiError
+from .inline_svg import presentation_attributes
 from .uploads import take_upload
 
 blueprint = Blueprint("firings", __name__)
@@ -74,7 +76,7 @@ def _fields() -> dict:
         if not isinstance(body, dict):
             raise ApiError('The request body must be a JSON object such as {"name": "Cone 6 glaze"}.')
         return body
-    return {key: value for key, value in request.form.items() if value.strip()}
+    return {key: value for key, value in request.form.items() if value.strip() and key != TOKEN_FIELD}
 
 
 FIRING_FIELDS = ("name", "kiln", "kind", "target_c", "target_cone", "started_at", "notes", "status")
@@ -203,7 +205,7 @@ def firing_page(firing_id: int):
     points = _points(firing, readings)
     unit = _unit()
     target_c, target_label = firing_target_c(firing, cone_table(_log().data_dir)[0])
-    chart = firing_chart_svg(points, target_c, target_label, unit.upper())
+    chart = presentation_attributes(firing_chart_svg(points, target_c, target_label, unit.upper()))
     hours = {p.reading_id: p.hours for p in points}
     newest_first = list(reversed(readings))
     show_all = bool(request.args.get("all"))

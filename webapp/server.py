@@ -1,11 +1,27 @@
-"""Run the web app on waitress, a production WSGI server, and say where to open it."""
+"""Run the web app on waitress, a production WSGI server, and say where to open it.
+
+On loopback (the default) only this computer can reach the page and nothing asks for pairing.
+On any other address (``--lan`` picks this machine's address on the local network) every
+device must pair first: the server prints the pairing address with a one-time code and a QR
+code of it, and prints a fresh code each time one is used (:mod:`glowtemp.web.access`).
+
+Before serving, the firing log is checked: a damaged database stops the start with a plain
+message (:meth:`glowtemp.logbook.Logbook.check_database`), readings whose photo is missing are
+reported, and whole photos that no reading names (left by a process killed between storing the
+photo and committing its row) are removed once they are an hour old.
+"""
 
 from __future__ import annotations
 
+import io
 import socket
+import sys
 from pathlib import Path
 
 SERVER_THREADS = 4
+QR_BORDER_MODULES = 4  # the quiet zone ISO/IEC 18004 asks for
+WHITE_ON_BLACK = ("\x1b[97;40m", "\x1b[0m")  # ANSI: light modules white on black, on any theme
+WAITRESS_SLACK_BYTES = 1024 * 1024  # waitress refuses only beyond the app's own limit (which answers JSON)
 
 
 def lan_address() -> str | None:
@@ -27,26 +43,85 @@ def addresses_to_open(host: str, port: int) -> list[str]:
     return [f"http://{shown}:{port}/"]
 
 
-def serve(host: str, port: int, data_dir: Path, demo_dir: Path | None = None) -> None:
-    """Serve until interrupted; ``port`` 0 picks a free port."""
-    from waitress.server import create_server
+def needs_pairing(host: str) -> bool:
+    """Whether serving on ``host`` lets other devices connect (anything but loopback)."""
+    from .access import is_loopback_name
 
+    return not is_loopback_name(host)
+
+
+def qr_text(url: str, colour: bool) -> str:
+    """A QR code of ``url`` in text (two modules a character, ISO/IEC 18004 via segno)."""
+    import segno
+
+    drawn = io.StringIO()
+    segno.make(url, error="m").terminal(out=drawn, compact=True, border=QR_BORDER_MODULES)
+    lines = drawn.getvalue().rstrip("\n").split("\n")
+    if colour:
+        lines = [WHITE_ON_BLACK[0] + line + WHITE_ON_BLACK[1] for line in lines]
+    return "\n".join(lines)
+
+
+def pairing_message(base_url: str, code: str, colour: bool = False) -> str:
+    """What the terminal shows so that a device can pair: the address with the code, and its QR."""
+    from .pairing import shown_code
+
+    url = f"{base_url}pair?code={code}"
+    return (
+        f"Pairing code {shown_code(code)} (one device; a new code follows each pairing).\n"
+        f"Scan the QR code with the phone's camera, or open {url}\n{qr_text(url, colour)}"
+    )
+
+
+def open_app(data_dir: Path, pairing: bool, limits: dict | None = None, out=sys.stdout):
+    """The app on ``data_dir`` after the start-up checks; raises LogbookError if the log is damaged."""
     from . import create_app
 
-    app = create_app({"DATA_DIR": data_dir})
+    app = create_app({"DATA_DIR": data_dir, "PAIRING": pairing, **(limits or {})})
+    log = app.extensions["glowtemp"]["logbook"]
+    log.check_database()
+    missing = log.missing_photos()
+    if missing:
+        print(f"Warning: {len(missing)} photo file(s) named by readings are missing from {log.photos.folder}.", file=out)
+    swept = log.forget_orphan_photos()
+    if swept:
+        print(f"Removed {swept} stored photo file(s) that no reading names (left by an interrupted upload).", file=out)
+    return app
+
+
+def build_server(app, host: str, port: int):
+    """A waitress server for ``app``; ``port`` 0 picks a free port."""
+    from waitress.server import create_server
+
+    body_limit = app.config["MAX_CONTENT_LENGTH"] + WAITRESS_SLACK_BYTES
+    return create_server(app, host=host, port=port, threads=SERVER_THREADS, max_request_body_size=body_limit)
+
+
+def serve(host: str, port: int, data_dir: Path, demo_dir: Path | None = None, *, pairing: bool | None = None,
+          limits: dict | None = None, out=sys.stdout) -> None:  # fmt: skip
+    """Serve until interrupted. ``pairing`` None means: pair unless ``host`` is loopback."""
+    pairing = needs_pairing(host) if pairing is None else pairing
+    app = open_app(data_dir, pairing, limits, out)
     if demo_dir is not None:
         from glowtemp.demo import seed_demo
 
         if seed_demo(app.extensions["glowtemp"]["logbook"], Path(demo_dir)) is not None:
-            print(f"Added a demo firing made from the photos in {demo_dir}", flush=True)
+            print(f"Added a demo firing made from the photos in {demo_dir}", file=out, flush=True)
         else:
-            print(f"No demo firing added: the log already has firings, or {demo_dir} holds no demo photos.", flush=True)
-    server = create_server(app, host=host, port=port, threads=SERVER_THREADS)
-    print(f"glowtemp is serving the data folder {data_dir}", flush=True)
-    for url in addresses_to_open(host, server.effective_port):
-        print(f"Open {url}", flush=True)
-    if host in ("127.0.0.1", "localhost", "::1"):
-        print("Only this computer can reach it; use --host 0.0.0.0 to reach it from a phone on the same network.", flush=True)
+            print(f"No demo firing added: the log already has firings, or {demo_dir} holds no demo photos.", file=out, flush=True)
+    server = build_server(app, host, port)
+    print(f"glowtemp is serving the data folder {data_dir}", file=out, flush=True)
+    urls = addresses_to_open(host, server.effective_port)
+    for url in urls:
+        print(f"Open {url}", file=out, flush=True)
+    if pairing:
+        colour = out.isatty()
+        codes = app.extensions["glowtemp"]["pairing"]
+        codes.on_new_code = lambda code: print(pairing_message(urls[-1], code, colour), file=out, flush=True)
+        print("Every device must pair first; 'glowtemp sessions revoke' unpairs them all.", file=out, flush=True)
+        codes.on_new_code(codes.code)
+    else:
+        print("Only this computer can reach it; use --lan to reach it from a phone on the same network.", file=out, flush=True)
     try:
         server.run()
     except KeyboardInterrupt:

@@ -3,6 +3,10 @@ import { RegionEditor } from "./region.js";
 import { paintScale, showReading } from "./result.js";
 
 const $ = (id) => document.getElementById(id);
+// The form token of a paired device's session ("" where the server needs none); sent with
+// every request that changes something.
+const FORM_TOKEN = document.querySelector('meta[name="csrf-token"]')?.content || "";
+const TOKEN_HEADERS = FORM_TOKEN ? { "X-CSRF-Token": FORM_TOKEN } : {};
 const UNIT_KEY = "glowtemp.unit";
 const PROFILE_KEY = "glowtemp.profile";
 
@@ -55,6 +59,7 @@ function send(url, form, onProgress) {
   return new Promise((resolve) => {
     const request = new XMLHttpRequest();
     request.open("POST", url);
+    for (const [name, value] of Object.entries(TOKEN_HEADERS)) request.setRequestHeader(name, value);
     request.responseType = "json";
     request.upload.onprogress = (e) => { if (e.lengthComputable) onProgress(e.loaded / e.total); };
     request.upload.onload = () => onProgress(1);
@@ -139,7 +144,7 @@ async function remeasure(regionText) {
   $("region-status").textContent = "Measuring this area…";
   const response = await fetch(`/api/readings/${state.reading.id}/region`, {
     method: "POST",
-    headers: { "Content-Type": "application/json" },
+    headers: { "Content-Type": "application/json", ...TOKEN_HEADERS },
     body: JSON.stringify({ region: regionText, profile: state.profile }),
   }).catch(() => null);
   if (sequence !== state.sequence) return;
