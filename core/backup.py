@@ -64,8 +64,9 @@ def _copy_photo(source: PhotoStore, target: PhotoStore, key: str) -> bool:
     return True
 
 
-def _snapshot(database: Path, partial: Path) -> list[str]:
-    """Copy the database to ``partial`` as one self-contained file; returns the photo keys it names."""
+def _snapshot(database: Path, partial: Path) -> tuple[list[str], int, int]:
+    """Copy the database to ``partial`` as one self-contained file; returns the photo keys it
+    names and its numbers of firings and readings."""
     partial.unlink(missing_ok=True)
     source = sqlite3.connect(database, timeout=BUSY_TIMEOUT_S)
     copy = sqlite3.connect(partial, isolation_level=None)
@@ -75,7 +76,9 @@ def _snapshot(database: Path, partial: Path) -> list[str]:
         copy.execute("PRAGMA journal_mode = DELETE")
         if copy.execute("PRAGMA quick_check").fetchone()[0] != "ok":
             raise BackupError(f"The copy of {database} does not pass SQLite's quick_check.")
-        return [row[0] for row in copy.execute("SELECT DISTINCT photo_key FROM readings")]
+        keys = [row[0] for row in copy.execute("SELECT DISTINCT photo_key FROM readings")]
+        counts = [copy.execute(f"SELECT COUNT(*) FROM {table}").fetchone()[0] for table in ("firings", "readings")]
+        return keys, *counts
     finally:
         copy.close()
         source.close()
@@ -127,7 +130,7 @@ def backup(data_dir: Path, dest_dir: Path) -> BackupSummary:
         for _ in range(ATTEMPTS):
             for key in source.keys():
                 _copy_photo(source, target, key)
-            named = _snapshot(data_dir / DATABASE_NAME, partial)
+            named, firings, readings = _snapshot(data_dir / DATABASE_NAME, partial)
             if all(_copy_photo(source, target, key) for key in named):
                 break
         else:
@@ -139,6 +142,4 @@ def backup(data_dir: Path, dest_dir: Path) -> BackupSummary:
     for key in set(target.keys()) - set(named):
         target.remove(key)  # photos the copied log no longer names (deleted since the last backup)
     _copy_settings(data_dir, dest_dir)
-    with Logbook(dest_dir) as copy:
-        counts = copy.counts()
-    return BackupSummary(counts["firings"], counts["readings"], len(set(named)), len(set(named) - copied_before), dest_dir)
+    return BackupSummary(firings, readings, len(set(named)), len(set(named) - copied_before), dest_dir)

@@ -146,12 +146,6 @@ class Logbook:
                 "'glowtemp backup' (or run sqlite3's .recover on the copy)."
             )
 
-    def counts(self) -> dict:
-        """How many firings and readings (in a firing or not) the log holds."""
-        firings = self._read("SELECT COUNT(*) FROM firings")[0][0]
-        readings = self._read("SELECT COUNT(*) FROM readings")[0][0]
-        return {"firings": firings, "readings": readings}
-
     def missing_photos(self) -> list[str]:
         """Keys named by readings whose photo file is not in the store (should never happen)."""
         keys = [row[0] for row in self._read("SELECT DISTINCT photo_key FROM readings ORDER BY photo_key")]
