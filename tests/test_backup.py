@@ -43,15 +43,17 @@ def add_readings(log, firing_id, count, start=0):
                         taken_at=datetime(2024, 3, 1, 9, n % 60, tzinfo=timezone.utc), firing_id=firing_id)  # fmt: skip
 
 
-def assert_consistent(folder) -> int:
-    """Every reading's photo is there and whole (its SHA-256 is its name); returns the reading count."""
+def assert_consistent(folder, orphans_allowed=False) -> int:
+    """Every reading's photo is there and whole (its SHA-256 is its name), and (unless a writer was
+    killed between storing a photo and its row) every photo belongs to a reading; returns the count."""
     with Logbook(folder) as log:
         log.check_database()
         keys = [row[0] for row in sqlite3.connect(log.database_path).execute("SELECT photo_key FROM readings")]
         for key in keys:
             data = log.photo_path(key).read_bytes()
             assert photo_key(data, "." + key.rsplit(".", 1)[1]) == key  # FIPS 180-4 digest of the content
-        assert set(log.photos.keys()) == set(keys)  # and no photo that no reading names
+        assert set(log.photos.keys()) >= set(keys)
+        assert orphans_allowed or set(log.photos.keys()) == set(keys)
         return len(keys)
 
 
@@ -113,7 +115,7 @@ def test_backup_while_another_process_writes_is_consistent(tmp_path):
         writer.kill()
         writer.wait()
     assert counts[0] > 0 and counts == sorted(counts)  # the writer only got further
-    assert counts[-1] <= assert_consistent(source)
+    assert counts[-1] <= assert_consistent(source, orphans_allowed=True)  # the writer was killed mid-way
 
 
 def test_backup_refuses_its_own_folder_and_an_empty_one(tmp_path):

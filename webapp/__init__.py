@@ -61,8 +61,8 @@ def create_app(config: dict | None = None) -> Flask:
         "sessions": SessionStore(logbook.database_path),
         "pairing": PairingCodes() if app.config.get("PAIRING") else None,
     }
-    access.register(app)
     limits.register(app)
+    access.register(app)
     app.register_blueprint(measuring.blueprint)
     app.register_blueprint(api.blueprint)
     app.register_blueprint(pages.blueprint)

@@ -41,10 +41,19 @@ def _too_large_message(config) -> str:
     """Which limit a 413 request broke: the whole upload's, or a text field's."""
     length = request.content_length
     if (length is None and request.mimetype == "multipart/form-data") or (length or 0) > config["MAX_CONTENT_LENGTH"]:
-        limit_mb = config["MAX_CONTENT_LENGTH"] // (1024 * 1024)
-        return f"The upload is larger than {limit_mb} MB; send a smaller photo."
-    limit_kb = config["MAX_FORM_MEMORY_SIZE"] // 1024
-    return f"A text field or the request body is larger than {limit_kb} KB; shorten it."
+        return f"The upload is larger than {_size(config['MAX_CONTENT_LENGTH'])}; send a smaller photo."
+    return f"A text field or the request body is larger than {_size(config['MAX_FORM_MEMORY_SIZE'])}; shorten it."
+
+
+def _size(size_bytes: int) -> str:
+    """A size limit in MB or KB (binary multiples), without a misleading 0.
+
+    >>> _size(64 * 1024 * 1024), _size(1536 * 1024), _size(256 * 1024)
+    ('64 MB', '1.5 MB', '256 KB')
+    """
+    if size_bytes >= 1024 * 1024:
+        return f"{round(size_bytes / (1024 * 1024), 1):g} MB"
+    return f"{max(1, round(size_bytes / 1024))} KB"
 
 
 def register(app) -> None:

@@ -24,6 +24,7 @@ from .errors import ApiError
 
 PHOTO_FIELD = "photo"
 SHOWN_KEY_DIGITS = 12  # of the photo's SHA-256 in its name: plenty to tell a firing's photos apart
+LONGEST_REGION_TEXT = 100  # "circle:" and three numbers, or four, with room to spare
 
 
 @dataclass(frozen=True)
@@ -45,6 +46,11 @@ def region_from(fields: dict):
     from glowtemp.region import RegionError, parse_circle, parse_region
 
     region, circle = _text(fields, "region"), _text(fields, "circle")
+    if max(len(region), len(circle)) > LONGEST_REGION_TEXT:
+        raise ApiError(
+            f"A region is a few whole numbers such as 10,20,300,200 or circle:160,120,40 (at most "
+            f"{LONGEST_REGION_TEXT} characters); got {max(len(region), len(circle))} characters."
+        )
     if region and circle:
         raise ApiError("Send either a region or a circle, not both.")
     try:

@@ -1,0 +1,185 @@
+"""Hostile and broken input, one named case a row: each gets a clear 4xx answer in plain words,
+no traceback, nothing stored, and the server goes on serving."""
+
+from __future__ import annotations
+
+import io
+import struct
+import zlib
+from dataclasses import dataclass, field
+
+import pytest
+from PIL import Image
+
+KB = 1024
+
+
+def png(width: int, height: int, mode="RGB", colour=(200, 60, 5)) -> bytes:
+    out = io.BytesIO()
+    Image.new(mode, (width, height), colour if mode == "RGB" else 0).save(out, "PNG")
+    return out.getvalue()
+
+
+def png_claiming(width: int, height: int) -> bytes:
+    """A small PNG whose header claims ``width`` x ``height`` (a decompression bomb's header).
+
+    The IHDR chunk is rewritten with its CRC-32 recomputed (PNG, ISO/IEC 15948:2004, 5.3 and 11.2.2)."""
+    data = bytearray(png(16, 16))
+    ihdr = 8  # after the PNG signature
+    data[ihdr + 8: ihdr + 16] = struct.pack(">II", width, height)
+    crc = zlib.crc32(bytes(data[ihdr + 4: ihdr + 8 + 13]))
+    data[ihdr + 8 + 13: ihdr + 8 + 17] = struct.pack(">I", crc)
+    return bytes(data)
+
+
+def gif() -> bytes:
+    out = io.BytesIO()
+    Image.new("RGB", (32, 32), (200, 60, 5)).save(out, "GIF")
+    return out.getvalue()
+
+
+@dataclass
+class Case:
+    """One bad request: where it goes, its form fields and photo, and the answer expected."""
+
+    name: str
+    status: int
+    words: str
+    photo: bytes | None = b"GOOD"  # GOOD: the good test photo
+    fields: dict = field(default_factory=dict)
+    into_firing: bool = False
+    filename: str = "glow.jpg"
+
+
+def good_photo_with_tail_cut(photo: bytes) -> bytes:
+    return photo[: len(photo) // 3]
+
+
+CASES = [
+    # The photo itself
+    Case("no photo field at all", 400, "named 'photo'", photo=None),
+    Case("zero-byte photo", 400, "empty", photo=b""),
+    Case("plain text named .jpg", 422, "not an image", photo=b"kiln log: 09:00 650 C\n" * 40),
+    Case("an HTML page posing as a photo", 422, "not an image",
+         photo=b"<!doctype html><script>alert(1)</script>" * 20, filename="x.jpg"),
+    Case("a PDF", 422, "not an image", photo=b"%PDF-1.7\n%\xe2\xe3\xcf\xd3\n1 0 obj\n<<>>\nendobj\n" * 30),
+    Case("truncated JPEG", 422, "", photo=b"CUT"),
+    Case("JPEG with a damaged header", 422, "", photo=b"DAMAGED"),
+    Case("GIF, a format that is not a photo", 422, "GIF", photo=gif()),
+    Case("image smaller than 8 x 8", 422, "at least", photo=png(4, 4)),
+    Case("120-megapixel 1-bit PNG of 15 KB", 422, "megapixels", photo=png(12000, 10000, mode="1")),
+    Case("PNG header claiming 100000 x 100000", 422, "too large", photo=png_claiming(100_000, 100_000)),
+    # Regions
+    Case("region outside the photo", 400, "outside", fields={"region": "5000,5000,10,10"}),
+    Case("region of zero width", 400, "positive width", fields={"region": "10,10,0,20"}),
+    Case("region with a negative size", 400, "positive width", fields={"region": "10,10,-5,20"}),
+    Case("region left of the photo", 400, "left of or above", fields={"region": "-10,10,5,20"}),
+    Case("region that is not numbers", 400, "whole numbers", fields={"region": "ten,10,5,20"}),
+    Case("region with fractions", 400, "whole pixel", fields={"region": "10.5,10,5,20"}),
+    Case("region of NaN", 400, "whole pixel", fields={"region": "nan,10,5,20"}),
+    Case("region of huge numbers", 400, "within", fields={"region": "0,0,1e300,1e300"}),
+    Case("circle with a huge radius", 400, "within", fields={"circle": "10,10,99999999999999999999"}),
+    Case("circle of zero radius", 400, "positive radius", fields={"circle": "10,10,0"}),
+    Case("circle with two numbers", 400, "3 whole numbers", fields={"circle": "50,50"}),
+    Case("region and circle both", 400, "not both", fields={"region": "1,1,5,5", "circle": "5,5,3"}),
+    Case("region text of 60 KB", 400, "", fields={"region": "1," * 30_000}),
+    # Profiles and firings
+    Case("unknown camera profile", 400, "no camera profile called", fields={"profile": "no such camera"}),
+    Case("profile name reaching out of the folder", 400, "profile name", fields={"profile": "../../etc/passwd"}),
+    Case("note of 6000 characters", 400, "at most 5000", fields={"note": "n" * 6000}, into_firing=True),
+    Case("text field beyond the form limit", 413, "text field", fields={"note": "n" * (100 * KB)}, into_firing=True),
+    Case("thermocouple value that is not a number", 400, "number of °C", fields={"reference_c": "hot"}, into_firing=True),
+    Case("thermocouple value of infinity", 400, "between", fields={"reference_c": "inf"}, into_firing=True),
+    Case("a cone not in the table", 400, "cone table", fields={"cone": "99"}, into_firing=True),
+    Case("time that is not a time", 400, "date and time", fields={"taken_at": "noon"}, into_firing=True),
+]
+
+
+def stored_state(app):
+    log = app.extensions["glowtemp"]["logbook"]
+    readings = log._read("SELECT COUNT(*) FROM readings")[0][0]
+    photos = sorted(p.name for p in log.photos.folder.iterdir())
+    return readings, photos
+
+
+@pytest.fixture
+def firing_id(web_client):
+    return web_client.post("/api/firings", json={"name": "Target"}).get_json()["id"]
+
+
+@pytest.mark.filterwarnings("ignore::PIL.Image.DecompressionBombWarning")  # the bomb cases, refused
+@pytest.mark.parametrize("case", CASES, ids=[case.name for case in CASES])
+def test_bad_upload_is_refused_plainly_and_stores_nothing(web_app, web_client, firing_id, two_halves_jpeg, case):
+    photo = {b"GOOD": two_halves_jpeg, b"CUT": good_photo_with_tail_cut(two_halves_jpeg),
+             b"DAMAGED": two_halves_jpeg[:2] + b"\x00" * 40 + two_halves_jpeg[42:]}.get(case.photo, case.photo)  # fmt: skip
+    data = dict(case.fields)
+    if photo is not None:
+        data["photo"] = (io.BytesIO(photo), case.filename)
+    url = f"/api/firings/{firing_id}/readings" if case.into_firing else "/api/readings"
+    answer = web_client.post(url, data=data, content_type="multipart/form-data")
+    assert answer.status_code == case.status, answer.get_json()
+    message = answer.get_json()["error"]
+    assert case.words.lower() in message.lower()
+    assert 10 < len(message) < 600  # a sentence for people, not a dump of the input
+    assert "Traceback" not in answer.get_data(as_text=True)
+    assert stored_state(web_app) == (0, [])
+    # Still serving: a good photo goes through at once.
+    good = web_client.post(url, data={"photo": (io.BytesIO(two_halves_jpeg), "ok.jpg")}, content_type="multipart/form-data")
+    assert good.status_code == 201
+
+
+@pytest.mark.parametrize(
+    "name, method, url, body, status, words",
+    [
+        ("unknown firing", "post", "/api/firings/999/readings", None, 404, "no firing number 999"),
+        ("firing number that is not a number", "get", "/api/firings/abc", None, 404, "nothing at this address"),
+        ("huge firing number", "get", "/api/firings/99999999999999999999999", None, 404, ""),
+        ("unknown reading", "post", "/api/readings/4242/region", {"region": "1,1,5,5"}, 404, "no reading number 4242"),
+        ("firing name of 300 characters", "post", "/api/firings", {"name": "n" * 300}, 400, "at most 200"),
+        ("firing without a name", "post", "/api/firings", {"kind": "glaze"}, 400, "name is needed"),
+        ("firing of an unknown kind", "post", "/api/firings", {"name": "x", "kind": "microwave"}, 400, "must be one of"),
+        ("firing with an unknown field", "post", "/api/firings", {"name": "x", "colour": "red"}, 400, "not colour"),
+        ("JSON body that is a list", "post", "/api/firings", [1, 2], 400, "json object"),
+        ("JSON body of 100 KB", "post", "/api/firings", {"name": "x", "notes": "n" * (100 * KB)}, 413, "body"),
+        ("target of 10000 °C", "post", "/api/firings", {"name": "x", "target_c": 10000}, 400, "between"),
+    ],
+)
+def test_bad_request_elsewhere_is_refused_plainly(web_app, web_client, name, method, url, body, status, words):
+    kwargs = {} if body is None else {"json": body}
+    if method == "post" and url.endswith("/readings") and body is None:
+        kwargs = {"data": {"note": "x"}, "content_type": "multipart/form-data"}
+    answer = getattr(web_client, method)(url, **kwargs)
+    assert answer.status_code == status, answer.get_json()
+    assert words.lower() in answer.get_json()["error"].lower()
+    assert "Traceback" not in answer.get_data(as_text=True)
+    assert web_app.extensions["glowtemp"]["logbook"].list_firings() == []
+    assert web_client.get("/api/profiles").status_code == 200
+
+
+def test_upload_beyond_the_size_limit_is_413(tmp_path, two_halves_jpeg):
+    from glowtemp.web import create_app
+
+    app = create_app({"DATA_DIR": tmp_path, "MAX_CONTENT_LENGTH": 256 * KB})
+    answer = app.test_client().post("/api/readings", data={"photo": (io.BytesIO(b"\xff\xd8" + b"\0" * 300 * KB), "a.jpg")})
+    assert answer.status_code == 413 and "larger than 0 MB" not in answer.get_json()["error"]
+    assert "send a smaller photo" in answer.get_json()["error"]
+    assert stored_state(app) == (0, [])
+
+
+def test_the_pixel_limit_is_configurable(tmp_path, two_halves_jpeg):
+    from glowtemp.web import create_app
+
+    app = create_app({"DATA_DIR": tmp_path, "MAX_PHOTO_PIXELS": 10_000})  # the test photo has 76 800
+    answer = app.test_client().post("/api/readings", data={"photo": (io.BytesIO(two_halves_jpeg), "a.jpg")})
+    assert answer.status_code == 422 and "0.01 megapixels" in answer.get_json()["error"]
+
+
+def test_the_client_file_name_is_never_kept(web_app, web_client, two_halves_jpeg):
+    hostile = '../../<script>alert("x")</script>\r\n=HYPERLINK("x").jpg'
+    answer = web_client.post("/api/readings", data={"photo": (io.BytesIO(two_halves_jpeg), hostile)})
+    assert answer.status_code == 201
+    body = answer.get_json()
+    stored = web_app.extensions["glowtemp"]["logbook"].get_reading(body["id"])
+    assert stored["photo_name"] == body["photo"] and body["photo"].startswith("photo-")
+    assert "script" not in str(stored) and ".." not in stored["photo_name"]
+    assert [p.name for p in web_app.extensions["glowtemp"]["logbook"].photos.folder.iterdir()] == [stored["photo_key"]]
