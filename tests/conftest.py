@@ -8,6 +8,7 @@ tests never skip.
 
 from __future__ import annotations
 
+import functools
 import shutil
 import threading
 from pathlib import Path
@@ -126,3 +127,59 @@ def artifacts() -> Path:
     """Where screenshots go (git-ignored)."""
     ARTIFACTS.mkdir(exist_ok=True)
     return ARTIFACTS
+
+
+# --- a real `glowtemp serve` process and plain HTTP uploads to it ---------------------------
+
+
+def start_glowtemp_serve(data_dir: Path, *options: str):
+    """Start `glowtemp serve --port 0` on loopback; returns (process, base URL without a slash)."""
+    import subprocess
+    import sys
+
+    command = [sys.executable, "-m", "glowtemp.cli", "serve", "--port", "0", "--data", str(data_dir), *options]
+    process = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
+    seen = []
+    for line in process.stdout:
+        seen.append(line)
+        if line.startswith("Open "):
+            return process, line.split()[-1].rstrip("/")
+    process.wait(timeout=10)
+    raise AssertionError(f"glowtemp serve did not start: {''.join(seen)}")
+
+
+def multipart(fields: dict, photo: bytes, filename: str = "photo.jpg") -> tuple[bytes, str]:
+    """A multipart/form-data body (RFC 7578) with text fields and one file named 'photo'."""
+    import uuid
+
+    boundary = uuid.uuid4().hex
+    parts = [f'--{boundary}\r\nContent-Disposition: form-data; name="{name}"\r\n\r\n{value}\r\n'.encode()
+             for name, value in fields.items()]  # fmt: skip
+    parts.append(f'--{boundary}\r\nContent-Disposition: form-data; name="photo"; filename="{filename}"\r\n'
+                 "Content-Type: image/jpeg\r\n\r\n".encode() + photo + b"\r\n")  # fmt: skip
+    return b"".join(parts) + f"--{boundary}--\r\n".encode(), f"multipart/form-data; boundary={boundary}"
+
+
+def post(url: str, body: bytes, content_type: str, timeout: float = 60) -> tuple[int, dict]:
+    """POST and return (status, JSON answer), for error answers too."""
+    import json
+    import urllib.error
+    import urllib.request
+
+    request = urllib.request.Request(url, data=body, headers={"Content-Type": content_type}, method="POST")
+    try:
+        with urllib.request.urlopen(request, timeout=timeout) as answer:
+            return answer.status, json.loads(answer.read())
+    except urllib.error.HTTPError as error:
+        return error.code, json.loads(error.read() or b"{}")
+
+
+@functools.lru_cache(maxsize=4)
+def rendered_jpegs(count: int, size=(160, 120)) -> tuple[bytes, ...]:
+    """``count`` different small JPEGs of spy-hole scenes from 950 °C up in 20 °C steps (invented)."""
+    from glowtemp.scales import celsius_to_kelvin
+    from glowtemp.synthetic import encode_jpeg, render_photo
+    from glowtemp.synthetic_camera import ideal_camera
+
+    return tuple(encode_jpeg(render_photo(celsius_to_kelvin(950.0 + 20 * n), camera=ideal_camera(), size=size, seed=n))
+                 for n in range(count))  # fmt: skip
