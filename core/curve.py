@@ -4,14 +4,27 @@ Pure functions of the firing log's dicts (:mod:`glowtemp.logbook`); drawing live
 :mod:`glowtemp.curve_chart`. Climb rates use the estimated temperature only, never a mix
 of estimates and thermocouple values, so a camera's offset does not show up as a jump.
 
+Each climb rate carries a band: the readings' 68 % half-widths, taken as standard
+uncertainties, propagated through the rate by the law of propagation of uncertainty for
+uncorrelated inputs. This is cautious: much of a reading's band is a camera term that all
+readings of one firing share, and a shared error cancels in a difference. For the rate over
+the last hours the band is the larger of that propagated one and the fit's own standard error
+of the slope (from the scatter about the line), so a curve that bends within the window does
+not get a falsely narrow band either.
+
 References
 ----------
 - NIST/SEMATECH e-Handbook of Statistical Methods, section 4.1.4.1, "Linear Least Squares
   Regression" (the slope used for the rate over the last hours).
+- JCGM 100:2008 (GUM), Evaluation of measurement data, section 5.1.2 (law of propagation of
+  uncertainty, uncorrelated input quantities).
+- N. R. Draper and H. Smith, Applied Regression Analysis, 3rd ed. (1998), section 1.4
+  (standard error of the slope of a straight-line fit).
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from datetime import datetime
 
@@ -124,6 +137,55 @@ def recent_climb_rate_c_per_h(hours: list[float], temperatures_c: list[float], w
     return sum((h - mean_h) * (t - mean_t) for h, t in window) / spread
 
 
+def step_rate_band_c_per_h(hours: tuple[float, float], sigmas_c: tuple[float, float]) -> float | None:
+    """Standard uncertainty of the climb rate between two readings, °C/h (GUM 5.1.2).
+
+    ``sigmas_c`` are the readings' standard uncertainties (their 68 % half-widths).
+
+    >>> round(step_rate_band_c_per_h((0.0, 0.5), (30.0, 40.0)), 6)
+    100.0
+    """
+    (h0, h1), (s0, s1) = hours, sigmas_c
+    return None if h1 == h0 else math.hypot(s0, s1) / abs(h1 - h0)
+
+
+def recent_climb_rate_band_c_per_h(
+    hours: list[float], temperatures_c: list[float], sigmas_c: list[float], window_h: float = 1.0
+) -> float | None:
+    """Standard uncertainty of :func:`recent_climb_rate_c_per_h`, °C/h.
+
+    The larger of the readings' uncertainties propagated through the least-squares slope
+    (a weighted sum of the temperatures, weights (h - mean h) / Shh) and, with three readings
+    or more, the slope's standard error from the scatter about the line, s / sqrt(Shh).
+
+    >>> round(recent_climb_rate_band_c_per_h([0.0, 0.5, 1.0], [100.0, 160.0, 200.0], [1.0, 1.0, 1.0]), 2)
+    11.55
+    """
+    if not hours:
+        return None
+    last = hours[-1]
+    window = [(h, t, s) for h, t, s in zip(hours, temperatures_c, sigmas_c) if h >= last - window_h]
+    if len(window) < 2 or any(s is None for _, _, s in window):
+        return None
+    mean_h = sum(h for h, _, _ in window) / len(window)
+    spread = sum((h - mean_h) ** 2 for h, _, _ in window)
+    if spread == 0:
+        return None
+    propagated = math.sqrt(sum(((h - mean_h) / spread) ** 2 * s**2 for h, _, s in window))
+    if len(window) < 3:
+        return propagated
+    slope = recent_climb_rate_c_per_h([h for h, _, _ in window], [t for _, t, _ in window], window_h)
+    mean_t = sum(t for _, t, _ in window) / len(window)
+    residuals = [t - (mean_t + slope * (h - mean_h)) for h, t, _ in window]
+    scatter = math.sqrt(sum(r**2 for r in residuals) / (len(window) - 2) / spread)
+    return max(propagated, scatter)
+
+
+def band_sigma_c(point: CurvePoint) -> float | None:
+    """A reading's standard uncertainty in °C: half the width of its 68 % band."""
+    return None if point.band68_c is None else (point.band68_c[1] - point.band68_c[0]) / 2
+
+
 def estimate_series(points: list[CurvePoint]) -> tuple[list[float], list[float]]:
     """Hours and estimated °C of the points that have an estimate."""
     usable = [p for p in points if p.temperature_c is not None]
@@ -131,10 +193,25 @@ def estimate_series(points: list[CurvePoint]) -> tuple[list[float], list[float]]
 
 
 def rate_summary(points: list[CurvePoint], windows_h=(1.0, 2.0)) -> dict:
-    """The latest climb rate between readings and the rates over the last hours, in °C/h."""
+    """The latest climb rate between readings and the rates over the last hours, in °C/h, each
+    with its band (``..._plus_minus_c_per_h``: one standard uncertainty, the 68 % half-width;
+    None where a reading has no band)."""
+    usable = [p for p in points if p.temperature_c is not None]
     hours, temperatures = estimate_series(points)
-    rates = [r for r in climb_rates_c_per_h(hours, temperatures) if r is not None]
+    sigmas = [band_sigma_c(p) for p in usable]
+    steps = [
+        (rate, (h0, h1), (s0, s1))
+        for rate, h0, h1, s0, s1 in zip(climb_rates_c_per_h(hours, temperatures), hours, hours[1:], sigmas, sigmas[1:])
+        if rate is not None
+    ]
+    last_band = None
+    if steps and None not in steps[-1][2]:
+        last_band = step_rate_band_c_per_h(steps[-1][1], steps[-1][2])
     return {
-        "last_step_c_per_h": rates[-1] if rates else None,
+        "last_step_c_per_h": steps[-1][0] if steps else None,
+        "last_step_plus_minus_c_per_h": last_band,
         "over_last_hours_c_per_h": {window: recent_climb_rate_c_per_h(hours, temperatures, window) for window in windows_h},
+        "over_last_hours_plus_minus_c_per_h": {
+            window: recent_climb_rate_band_c_per_h(hours, temperatures, sigmas, window) for window in windows_h
+        },
     }

@@ -13,7 +13,9 @@ from glowtemp.curve import (
     elapsed_hours,
     firing_target_c,
     rate_summary,
+    recent_climb_rate_band_c_per_h,
     recent_climb_rate_c_per_h,
+    step_rate_band_c_per_h,
 )
 from glowtemp.curve_chart import firing_chart_png, firing_chart_svg
 
@@ -42,6 +44,42 @@ def test_rate_over_the_last_hours_worked_by_hand():
     assert recent_climb_rate_c_per_h(HOURS, TEMPERATURES_C, window_h=10.0) == pytest.approx(slope)
     assert recent_climb_rate_c_per_h(HOURS, TEMPERATURES_C, window_h=0.25) is None  # one reading only
     assert recent_climb_rate_c_per_h([], []) is None
+
+
+def test_climb_rate_band_between_two_readings_worked_by_hand():
+    # GUM (JCGM 100:2008) 5.1.2 for r = (T1 - T0) / dh with uncorrelated T0, T1:
+    # u(r) = sqrt(u0^2 + u1^2) / dh. Bands of +-30 and +-40 °C over half an hour: 50 / 0.5 = 100 °C/h.
+    assert step_rate_band_c_per_h((1.0, 1.5), (30.0, 40.0)) == pytest.approx(100.0)
+    assert step_rate_band_c_per_h((2.0, 1.0), (10.0, 10.0)) == pytest.approx(2**0.5 * 10)
+    assert step_rate_band_c_per_h((1.0, 1.0), (10.0, 10.0)) is None
+
+
+def test_band_of_the_rate_over_the_last_hours_worked_by_hand():
+    hours, temperatures = [0.0, 0.5, 1.0], [100.0, 160.0, 200.0]
+    # Slope weights (h - 0.5) / Shh with Shh = 0.5: -1, 0, 1; bands of +-10 °C give sqrt(2) * 10.
+    assert recent_climb_rate_band_c_per_h(hours, [100.0, 160.0, 200.0], [10.0] * 3, 10.0) == pytest.approx(200**0.5)
+    # Narrow bands: the scatter about the line rules. The fit is 103.33 + 100 h; residuals -10/3,
+    # 20/3, -10/3; s^2 = (200/3) / (3 - 2); standard error sqrt(s^2 / Shh) = sqrt(400/3) = 11.547 °C/h
+    # (Draper and Smith, section 1.4), cross-checked with numpy's covariance of the fit.
+    band = recent_climb_rate_band_c_per_h(hours, temperatures, [1.0] * 3, 10.0)
+    assert band == pytest.approx((400 / 3) ** 0.5)
+    _, covariance = np.polyfit(hours, temperatures, 1, cov="unscaled")
+    scale = np.sum((np.polyval(np.polyfit(hours, temperatures, 1), hours) - temperatures) ** 2) / (3 - 2)
+    assert band == pytest.approx(np.sqrt(covariance[0, 0] * scale))
+    assert recent_climb_rate_band_c_per_h(hours, temperatures, [1.0, None, 1.0], 10.0) is None
+    assert recent_climb_rate_band_c_per_h([1.0], [900.0], [5.0], 10.0) is None
+
+
+def test_propagated_band_matches_a_monte_carlo_of_the_slope():
+    # Readings scattered by their bands (normal, sigma = half-width): the slope's spread over many
+    # draws matches the propagated band (GUM Supplement 1, JCGM 101:2008, propagation of distributions).
+    hours = np.array([0.0, 0.4, 0.9, 1.5, 2.0])
+    sigmas = np.array([40.0, 25.0, 30.0, 20.0, 35.0])
+    rng = np.random.default_rng(7)
+    draws = 1000.0 + 150.0 * hours + rng.normal(0.0, 1.0, (20000, 5)) * sigmas
+    slopes = np.polyfit(hours, draws.T, 1)[0]
+    propagated = recent_climb_rate_band_c_per_h(list(hours), list(1000.0 + 150.0 * hours), list(sigmas), 10.0)
+    assert propagated == pytest.approx(np.std(slopes), rel=0.03)
 
 
 def test_elapsed_hours_across_offsets():
@@ -80,6 +118,10 @@ def test_curve_points_in_time_order_with_cone_heights():
     assert summary["last_step_c_per_h"] == pytest.approx(180 / 1.5)  # 1000 -> 1180 °C in 1.5 h
     assert summary["over_last_hours_c_per_h"][1.0] is None  # only the last reading is within the hour
     assert summary["over_last_hours_c_per_h"][2.0] == pytest.approx(120.0)
+    # Every reading here has a 68 % band of +-20 °C: the last step's band is sqrt(2) * 20 / 1.5 °C/h.
+    assert summary["last_step_plus_minus_c_per_h"] == pytest.approx(2**0.5 * 20 / 1.5)
+    assert summary["over_last_hours_plus_minus_c_per_h"][1.0] is None
+    assert summary["over_last_hours_plus_minus_c_per_h"][2.0] == pytest.approx(2**0.5 * 20 / 1.5)
 
 
 def test_hours_count_from_the_first_photo_when_it_predates_the_start():

@@ -1,9 +1,12 @@
 """In headless Chromium at phone size: start a firing, add two demo photos with thermocouple
 values, and see the curve with its climb rate (fixtures from tests/conftest.py)."""
 
+import math
 import re
 from datetime import datetime
 from pathlib import Path
+
+from glowtemp.scales import round_to, rounding_step
 
 DEMO_IMAGES = Path(__file__).resolve().parent.parent / "demo_images"
 
@@ -45,12 +48,17 @@ def test_firing_with_two_readings_and_its_curve(live_server, browser_page, artif
     labels = curve.locator("text").all_text_contents()
     assert "thermocouple" in labels and "estimate from colour" in labels and "target cone 6 (approximate)" in labels
 
-    # The page's climb rate matches the rate worked out from the API's readings.
+    # The page's climb rate and its band match those worked out from the API's readings: the rate
+    # between them, and their 68 % half-widths propagated (GUM 5.1.2), rounded as the band allows.
     readings = page.request.get(f"{live_server}/api/firings/{firing_id}").json()["readings"]
     (a, b) = readings
     hours = (datetime.fromisoformat(b["taken_at"]) - datetime.fromisoformat(a["taken_at"])).total_seconds() / 3600
     expected = (b["temperature_c"] - a["temperature_c"]) / hours
-    assert f"last step {expected:+.0f} °C/h" in page.text_content(".rates").replace("\n", " ").replace("  ", " ")
+    half_widths = [(r["interval_68_c"][1] - r["interval_68_c"][0]) / 2 for r in (a, b)]
+    band = math.hypot(*half_widths) / hours
+    step = rounding_step(band)
+    shown = f"last step {round_to(expected, step):+d} ± {max(step, round_to(band, step))} °C/h"
+    assert shown in page.text_content(".rates").replace("\n", " ").replace("  ", " ")
 
     page.locator("#curve").scroll_into_view_if_needed()
     page.screenshot(path=str(artifacts / "firing-curve.png"), full_page=True)

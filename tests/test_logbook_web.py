@@ -196,8 +196,9 @@ def test_long_firings_list_the_newest_readings_first_and_all_on_request(web_app,
     page = web_client.get(f"/firings/{firing_id}").get_data(as_text=True)
     assert page.count('<article class="card reading"') == 30 and "Show all 32 readings" in page
     assert page.index("31.jpg") < page.index("30.jpg")  # newest first
-    # Climb between the last two readings: 10 °C in 20 minutes is +30 °C/h.
-    assert "last step <b>+30 °C/h</b>" in page
+    # Climb between the last two readings: 10 °C in 20 minutes is +30 °C/h; their +-10 °C bands give
+    # sqrt(2) * 10 / (1/3 h) = 42 °C/h (GUM 5.1.2), which supports steps of 20 °C/h: +40 ± 40.
+    assert "last step <b>+40 ± 40 °C/h</b>" in page
     everything = web_client.get(f"/firings/{firing_id}?all=1").get_data(as_text=True)
     assert everything.count('<article class="card reading"') == 32 and "Show all" not in everything
     assert "all=1" in everything.split('id="reading-1"')[1].split("</article>")[0]  # its forms keep the view
@@ -214,3 +215,15 @@ def test_profile_from_a_firing_in_one_step(web_app, web_client, firing_id, two_h
     assert made.status_code == 200 and "Camera profile “web-cam” made" in made.get_data(as_text=True)
     refused = web_client.post(f"/firings/{firing_id}/profile", data={"name": ""})
     assert refused.status_code == 400 and "No profile was made" in refused.get_data(as_text=True)
+
+
+def test_climb_rates_are_shown_with_their_band_and_unit():
+    from glowtemp.web.firings import climb
+
+    # A band of 38.7 °C/h supports 10 °C/h steps (rounding_step: at most half the half-width).
+    assert climb(100.4, "c", 38.7) == "+100 ± 40 °C/h"
+    assert climb(-42.0, "c", 3.0) == "-42 ± 3 °C/h"
+    # In °F a rate difference is 9/5 of the °C one, with no 32 °F offset (NIST SP 811 B.9): 180 ± 72.
+    assert climb(100.0, "f", 40.0) == "+180 ± 80 °F/h"
+    assert climb(None, "c", None) == "–"
+    assert climb(55.0, "c", None) == "+55 °C/h (band unknown)"

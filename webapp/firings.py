@@ -314,7 +314,8 @@ def api_get(firing_id: int):
     firing = _firing(firing_id)
     readings = _log().readings_in(firing_id)
     rates = _rates(_points(firing, readings))
-    rates["over_last_hours_c_per_h"] = {f"{h:g}": r for h, r in rates["over_last_hours_c_per_h"].items()}
+    for key in ("over_last_hours_c_per_h", "over_last_hours_plus_minus_c_per_h"):
+        rates[key] = {f"{h:g}": r for h, r in rates[key].items()}
     return jsonify(firing=firing, readings=[_reading_json(r) for r in readings], rates=rates)
 
 
@@ -403,9 +404,18 @@ def degrees(temperature_c, unit: str = "c") -> str:
 
 
 @blueprint.app_template_filter("climb")
-def climb(rate_c_per_h, unit: str = "c") -> str:
-    """A climb rate in °C/h shown in the chosen unit per hour, with its sign."""
+def climb(rate_c_per_h, unit: str = "c", plus_minus_c_per_h=None) -> str:
+    """A climb rate and its 68 % band in the chosen unit per hour, with its sign, both rounded to
+    a step the band supports (:func:`glowtemp.scales.rounding_step`): "+100 ± 40 °C/h"."""
+    from glowtemp.scales import round_to, rounding_step
+
     if rate_c_per_h is None:
         return "–"
-    value = rate_c_per_h * (9 / 5 if unit == "f" else 1)
-    return f"{value:+.0f} °{unit.upper()}/h"
+    per_degree_c = 9 / 5 if unit == "f" else 1  # a temperature difference: no 32 °F offset
+    value, symbol = rate_c_per_h * per_degree_c, f"°{unit.upper()}/h"
+    if plus_minus_c_per_h is None:
+        return f"{value:+.0f} {symbol} (band unknown)"
+    band = plus_minus_c_per_h * per_degree_c
+    step = rounding_step(band)
+    value, band = round(value, 6), round(band, 6)  # a rate of 29.9999999 from clock arithmetic is 30
+    return f"{round_to(value, step):+d} ± {max(step, round_to(band, step))} {symbol}"
