@@ -23,7 +23,10 @@ NAV_AREAS = (
 
 MAX_UPLOAD_BYTES = 64 * 1024 * 1024  # a 50 MP JPEG is about 25 MB; RAW-sized TIFFs fit too
 MAX_PHOTO_PIXELS = 50_000_000  # checked from the file's header before decoding (decompression bombs)
-MAX_FIELD_BYTES = 64 * 1024  # any one text field of a form, and a whole JSON or plain form body
+# Any one text field of a form, and a whole JSON or plain form body. Werkzeug's multipart reader
+# also holds a file's bytes to this limit while it reads them in 64 KiB chunks, keeping back a
+# few bytes that could start a boundary, so the limit must be well above 64 KiB.
+MAX_FIELD_BYTES = 256 * 1024
 
 
 def create_app(config: dict | None = None) -> Flask:
