@@ -112,3 +112,25 @@ def test_serve_pair_prints_a_code_and_a_qr_code_that_pair_a_device(tmp_path):
     finally:
         process.terminate()
         process.wait(timeout=10)
+
+
+def test_lan_and_pair_options(monkeypatch, capsys):
+    args = build_parser().parse_args(["serve", "--lan", "--pair", "--max-upload-mb", "8", "--max-megapixels", "24"])
+    assert (args.lan, args.pair, args.max_upload_mb, args.max_megapixels) == (True, True, 8.0, 24.0)
+    with pytest.raises(SystemExit):
+        build_parser().parse_args(["serve", "--lan", "--host", "0.0.0.0"])  # one or the other
+    capsys.readouterr()
+
+    import glowtemp.web.server
+    from glowtemp.cli import main
+
+    monkeypatch.setattr(glowtemp.web.server, "lan_address", lambda: None)  # a computer on no network
+    assert main(["serve", "--lan"]) == 1
+    assert "no address on a local network" in capsys.readouterr().err
+
+
+def test_every_address_but_loopback_asks_devices_to_pair():
+    from glowtemp.web.server import needs_pairing
+
+    assert [needs_pairing(h) for h in ("127.0.0.1", "localhost", "::1")] == [False] * 3
+    assert [needs_pairing(h) for h in ("0.0.0.0", "192.168.1.20", "::")] == [True] * 3
