@@ -31,6 +31,7 @@ import io
 import math
 import os
 import struct
+import warnings
 import zlib
 from dataclasses import dataclass
 from datetime import datetime
@@ -199,7 +200,10 @@ def _open(data: bytes) -> Image.Image:
         _heif_opener()
         formats += ("HEIF",)
     try:
-        return Image.open(io.BytesIO(data), formats=formats)
+        with warnings.catch_warnings():
+            # Pillow warns about large headers; load_photo's own pixel limit decides and says why.
+            warnings.simplefilter("ignore", Image.DecompressionBombWarning)
+            return Image.open(io.BytesIO(data), formats=formats)
     except Image.DecompressionBombError as error:
         raise PhotoError(
             "The image is far too large to be a photo (its header claims more than "

@@ -159,7 +159,7 @@ def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -
     return found
 
 
-def _finder_red(photo) -> np.ndarray:
+def finder_red(photo) -> np.ndarray:
     """The red channel as the glow finder sees it: the file's codes, or for linear raw data
     their square root (a rough display encoding), so a bright core does not hide the rest."""
     red = photo.codes[:, :, 0]
@@ -207,7 +207,7 @@ def measure(
         camera = uncalibrated_term(photo)
     region_found = region is None
     if region_found:
-        region = find_glow(_finder_red(photo))
+        region = find_glow(finder_red(photo))
     stats = region_statistics(photo, region)
     notes, applied = [], None
     if profile is not None:

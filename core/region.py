@@ -3,10 +3,10 @@
 Coordinates are pixels of the upright photo (after EXIF orientation), origin at the top left,
 x to the right, y down, as the photo is shown on screen.
 
-The automatic finder thresholds the red channel of a reduced copy of the photo with Otsu's
-method, keeps the connected bright area that holds the brightest glow, and returns a circle
-for a round area (a spy hole) or a rectangle otherwise (a bar end), shrunk slightly so the
-cooler rim is left out.
+The automatic finder smooths a reduced copy of the photo's red channel (3 x 3 mean), thresholds
+it with Otsu's method, keeps the connected bright area that holds the brightest glow, and
+returns a circle for a round area (a spy hole) or a rectangle otherwise (a bar end), shrunk
+slightly so the cooler rim is left out. When glow fills the frame it takes the middle half.
 
 References
 ----------
@@ -24,6 +24,9 @@ import numpy as np
 
 FINDER_SIZE_PX = 256  # long side of the reduced copy the finder works on
 RIM_SHRINK = 0.8  # keep the inner 80 % of the found area's size
+FILLED_FRAME = 0.5  # when even the dimmest 5 % is this bright (of the peak), glow fills the frame
+MIN_GLOW_PX = 64  # a found area smaller than this is a speck, not the glow
+DIM_FRACTION = 0.2  # a photo whose brightest red stays below this share of full scale shows no glow
 LARGEST_COORDINATE_PX = 1_000_000  # far beyond any photo's side; keeps pixel arithmetic in int64
 
 
@@ -156,6 +159,13 @@ def otsu_threshold(values: np.ndarray, levels: int = 256) -> float:
     return int(np.argmax(between[:-1]))
 
 
+def _box_mean(image: np.ndarray) -> np.ndarray:
+    """3 x 3 mean filter with edge replication, so a lone noisy pixel cannot seed the glow."""
+    padded = np.pad(image, 1, mode="edge")
+    height, width = image.shape
+    return sum(padded[dy : dy + height, dx : dx + width] for dy in range(3) for dx in range(3)) / 9
+
+
 def dilate(mask: np.ndarray) -> np.ndarray:
     """Binary dilation by the 4-connected cross (Gonzalez and Woods, section 9.2)."""
     grown = mask.copy()
@@ -179,23 +189,32 @@ def _grow(seed: np.ndarray, allowed: np.ndarray) -> np.ndarray:
 def find_glow(red_codes: np.ndarray):
     """Find the glowing area in a photo's red channel codes (H x W); returns a Circle or Rectangle.
 
-    Raises :class:`RegionError` when nothing stands out from the background.
+    ``red_codes`` are encoded values (integers at the file's scale, or floats on a 0-255 scale).
+    Raises :class:`RegionError` when the photo is too dim or only a speck stands out.
     """
     height, width = red_codes.shape
     step = max(1, int(np.ceil(max(height, width) / FINDER_SIZE_PX)))
-    small = red_codes[::step, ::step].astype(np.float32)
+    small = _box_mean(red_codes[::step, ::step].astype(np.float32))
+    full_scale = np.iinfo(red_codes.dtype).max if red_codes.dtype.kind in "ui" else 255.0
+    if small.max() < DIM_FRACTION * full_scale:
+        raise RegionError(
+            "Nothing in this photo is bright enough to be glow; raise the exposure, or draw the "
+            "region by hand."
+        )
     scale = 255.0 / max(float(small.max()), 1.0)
     small *= scale
     flat = small.ravel()
     fifth_percentile = np.partition(flat, len(flat) // 20)[len(flat) // 20]
-    if small.max() - fifth_percentile < 10:
-        raise RegionError("No glowing area stands out in this photo; draw the region by hand.")
+    if fifth_percentile >= FILLED_FRAME * 255.0:  # glow fills the frame: take its middle
+        return Rectangle(width // 4, height // 4, max(1, width // 2), max(1, height // 2))
     threshold = max(otsu_threshold(small), 0.25 * float(small.max()))
     bright = small > threshold
     brightest = np.unravel_index(np.argmax(np.where(bright, small, -1)), small.shape)
     seed = np.zeros_like(bright)
     seed[brightest] = True
     area = _grow(seed, bright)
+    if area.sum() * step**2 < MIN_GLOW_PX:
+        raise RegionError("Only a speck of glow stands out in this photo; draw the region by hand.")
     ys, xs = np.nonzero(area)
     y0, y1, x0, x1 = ys.min(), ys.max() + 1, xs.min(), xs.max() + 1
     box_w, box_h = (x1 - x0) * step, (y1 - y0) * step

@@ -17,7 +17,7 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 from .estimate import UNCALIBRATED, CameraTerm
-from .reading import Reading, measure
+from .reading import Reading, finder_red, measure
 from .region import RegionError, find_glow
 
 DEFAULT_TILES = 8  # tiles across the longer side of the region's bounding box
@@ -172,7 +172,7 @@ def temperature_map(
     outside the photo or a bad tile count.
     """
     if region is None:
-        region = find_glow(photo.codes[:, :, 0])
+        region = find_glow(finder_red(photo))
     rows, columns, cells = tile_grid(region, photo.width, photo.height, tiles)
     measured = []
     for index, cell in enumerate(cells):

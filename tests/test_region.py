@@ -77,6 +77,23 @@ def test_finder_returns_a_circle_for_a_spy_hole_and_a_rectangle_for_a_bar():
     assert 100 <= x0 and x1 <= 600 and 220 <= y0 and y1 <= 262
 
 
-def test_finder_refuses_a_featureless_photo():
-    with pytest.raises(RegionError, match="draw the region"):
-        find_glow(np.full((100, 100), 90, dtype=np.uint8))
+def test_finder_takes_the_middle_when_glow_fills_the_frame():
+    # A close-up of a bar or a kiln interior: no edge to find, so the middle half is measured
+    # (whether its colour is glow is the estimator's judgement, not the finder's).
+    found = find_glow(np.full((100, 200), 180, dtype=np.uint8))
+    assert found == Rectangle(50, 25, 100, 50)
+
+
+def test_finder_refuses_a_photo_too_dim_for_glow():
+    with pytest.raises(RegionError, match="bright enough"):
+        find_glow(np.full((100, 200), 30, dtype=np.uint8))
+    with pytest.raises(RegionError, match="bright enough"):
+        find_glow(np.full((100, 200), 30 * 257, dtype=np.uint16))
+
+
+def test_finder_refuses_a_lone_speck():
+    rng = np.random.default_rng(1)
+    photo = rng.integers(0, 12, (300, 400)).astype(np.uint8)
+    photo[150:153, 200:203] = 255  # a few hot pixels (a spark, a reflection)
+    with pytest.raises(RegionError, match="speck"):
+        find_glow(photo)
