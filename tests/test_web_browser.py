@@ -259,3 +259,30 @@ def test_both_views_have_strong_contrast_and_sunlight_is_remembered(live_server,
     assert sunlight["page"] != studio["page"]
     check_contrast(sunlight)
     page.screenshot(path=artifacts / "web-08-sunlight.png", full_page=True)
+
+
+def test_a_raw_photo_is_measured_and_shown_in_its_glow_colour(live_server, browser_page, artifacts, tmp_path):
+    from test_web_formats import blackbody_display_codes, dng_photo
+
+    page = browser_page
+    photo = tmp_path / "spy-hole.dng"
+    photo.write_bytes(dng_photo(1000.0, scene="uniform"))
+    reading = upload(page, live_server, photo)
+    assert reading["colour_space"] == "Linear ROMM RGB (camera raw)" and reading["status"] == "ok"
+    assert shown_value(page) == f"{reading['temperature_c']}°C"
+    # Chromium cannot decode a DNG, so the page falls back to the server's preview.
+    page.wait_for_function("document.getElementById('photo').src.endsWith('/preview') && document.getElementById('photo').complete")
+    shown = page.evaluate("""() => {
+      const img = document.getElementById('photo');
+      const canvas = document.createElement('canvas');
+      canvas.width = img.naturalWidth; canvas.height = img.naturalHeight;
+      const context = canvas.getContext('2d');
+      context.drawImage(img, 0, 0);
+      return [img.naturalWidth, Array.from(context.getImageData(canvas.width / 2, canvas.height / 2, 1, 1).data)];
+    }""")
+    width, (red, green, blue, _) = shown
+    assert width == reading["image"]["width"]
+    expected = blackbody_display_codes(1000.0)  # colour-science: Planck's law, CIE 1931, sRGB
+    assert abs(red - expected[0]) <= 20 and abs(green - expected[1]) <= 20 and blue <= 20
+    page.locator("#photo-section").scroll_into_view_if_needed()
+    page.screenshot(path=artifacts / "web-09-raw-photo.png")

@@ -7,7 +7,8 @@
   ``image`` {width, height} and ``preview_url``.
 - ``POST /api/readings/<id>/region``: the same fields as JSON or a form, without ``photo``;
   measures the stored photo again and replaces the stored result.
-- ``GET /api/readings/<id>/preview``: the stored photo, upright and reduced, as a JPEG.
+- ``GET /api/readings/<id>/preview``: the stored photo, upright, reduced and in sRGB, as a JPEG
+  (a raw photo brought to a display brightness: :mod:`glowtemp.web.preview`).
 - ``GET /api/scale``: blackbody colours along a temperature scale, for painting.
 - ``GET /api/profiles``: the stored camera profiles, for the picker.
 
@@ -92,17 +93,10 @@ def measure_region(reading_id: int):
 
 @blueprint.get("/readings/<int:reading_id>/preview")
 def preview(reading_id: int):
-    import numpy as np
-    from PIL import Image
+    from .preview import preview_jpeg
 
     _, photo = _stored(reading_id)
-    codes = photo.codes if photo.codes.dtype == np.uint8 else (photo.codes >> 8).astype(np.uint8)
-    image = Image.fromarray(codes)
-    image.thumbnail((PREVIEW_LONG_SIDE_PX, PREVIEW_LONG_SIDE_PX))
-    out = io.BytesIO()
-    image.save(out, "JPEG", quality=85)
-    out.seek(0)
-    return send_file(out, mimetype="image/jpeg")
+    return send_file(io.BytesIO(preview_jpeg(photo, PREVIEW_LONG_SIDE_PX)), mimetype="image/jpeg")
 
 
 @blueprint.get("/scale")
