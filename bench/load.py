@@ -17,8 +17,6 @@ import argparse
 import hashlib
 import json
 import statistics
-import subprocess
-import sys
 import tempfile
 import threading
 import time
@@ -26,6 +24,8 @@ import urllib.error
 import urllib.request
 import uuid
 from pathlib import Path
+
+from common import start_server
 
 PHOTO_SIZE = (4000, 3000)  # 12 megapixels
 PHOTO_TEMPERATURES_C = (1000.0, 1150.0)
@@ -40,15 +40,6 @@ def render_photos() -> list[bytes]:
     camera = CAMERAS["Nikon 5100 (NPL)"]
     return [encode_jpeg(render_photo(celsius_to_kelvin(t), camera=camera, size=PHOTO_SIZE, seed=n, iso=1600))
             for n, t in enumerate(PHOTO_TEMPERATURES_C)]  # fmt: skip
-
-
-def start_server(data_dir: Path):
-    command = [sys.executable, "-m", "glowtemp.cli", "serve", "--port", "0", "--data", str(data_dir)]
-    server = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
-    for line in server.stdout:
-        if line.startswith("Open "):
-            return server, line.split()[-1].rstrip("/")
-    raise SystemExit("glowtemp serve did not start")
 
 
 def peak_memory_mb(pid: int) -> float:

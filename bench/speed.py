@@ -20,17 +20,8 @@ import tempfile
 import time
 from pathlib import Path
 
+from common import render_12mp_photo
 
-
-def make_photo(path: Path) -> None:
-    """A 12 MP spy-hole photo at ISO 1600, so sensor noise gives the JPEG a phone-like size."""
-    from glowtemp.synthetic import encode_jpeg, render_photo
-    from glowtemp.synthetic_camera import CAMERAS
-
-    rendered = render_photo(
-        1273.15, camera=CAMERAS["Nikon 5100 (NPL)"], size=(4000, 3000), seed=1, iso=1600
-    )
-    path.write_bytes(encode_jpeg(rendered))
 
 
 def run(command: list[str]) -> tuple[float, float]:
@@ -47,14 +38,10 @@ def run(command: list[str]) -> tuple[float, float]:
 def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--runs", type=int, default=7)
-    parser.add_argument("--make", metavar="PATH", help=argparse.SUPPRESS)
     args = parser.parse_args(argv)
-    if args.make:
-        return make_photo(Path(args.make))
     with tempfile.TemporaryDirectory() as folder:
         photo = Path(folder) / "spy_hole_12mp.jpg"
-        # rendered in a child, so the children timed below do not inherit this process's memory
-        subprocess.run([sys.executable, __file__, "--make", str(photo)], check=True)
+        render_12mp_photo(photo)
         commands = {
             "interpreter start": [sys.executable, "-c", "pass"],
             "bare Pillow decode": [sys.executable, "-c",

@@ -28,6 +28,8 @@ import urllib.request
 import uuid
 from pathlib import Path
 
+from common import render_12mp_photo, start_server
+
 CHROMIUM = "/usr/bin/chromium"
 CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking",
                  "--disable-component-update", "--disable-sync", "--no-first-run"]
@@ -49,23 +51,6 @@ STOPWATCH = """() => {
     }
   }).observe(card, { attributes: true, attributeFilter: ["hidden"] });
 }"""
-
-
-def make_photo(path: Path) -> None:
-    from glowtemp.synthetic import encode_jpeg, render_photo
-    from glowtemp.synthetic_camera import CAMERAS
-
-    rendered = render_photo(1273.15, camera=CAMERAS["Nikon 5100 (NPL)"], size=(4000, 3000), seed=2, iso=1600)
-    path.write_bytes(encode_jpeg(rendered))
-
-
-def start_server(data_dir: Path):
-    command = [sys.executable, "-m", "glowtemp.cli", "serve", "--port", "0", "--data", str(data_dir)]
-    server = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
-    for line in server.stdout:
-        if line.startswith("Open "):
-            return server, line.split()[-1].rstrip("/")
-    raise SystemExit("glowtemp serve did not start")
 
 
 def time_command(photo: Path) -> float:
@@ -113,7 +98,7 @@ def time_page(page, url: str, photo: Path) -> tuple[float, float]:
     page.goto(url + "/", wait_until="networkidle")
     page.evaluate(STOPWATCH)
     page.set_input_files("#file-input", str(photo))
-    page.wait_for_function("window.stopwatch.end && window.stopwatch.photo", timeout=60_000)
+    page.wait_for_function("() => window.stopwatch.end && window.stopwatch.photo", timeout=60_000)
     watch = page.evaluate("window.stopwatch")
     return (watch["end"] - watch["start"]) / 1000, (watch["photo"] - watch["start"]) / 1000
 
@@ -121,15 +106,12 @@ def time_page(page, url: str, photo: Path) -> tuple[float, float]:
 def main(argv=None):
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--runs", type=int, default=5)
-    parser.add_argument("--make", metavar="PATH", help=argparse.SUPPRESS)
     args = parser.parse_args(argv)
-    if args.make:
-        return make_photo(Path(args.make))
     from playwright.sync_api import sync_playwright
 
     with tempfile.TemporaryDirectory() as folder:
         photo = Path(folder) / "spy_hole_12mp.jpg"
-        subprocess.run([sys.executable, __file__, "--make", str(photo)], check=True)  # memory stays there
+        render_12mp_photo(photo)
         server, url = start_server(Path(folder) / "data")
         try:
             with sync_playwright() as playwright:

@@ -161,20 +161,14 @@ def measure_many(paths, *, region=None, profile=None, jobs: int | None = None, p
 def csv_row(measured: Measured) -> dict:
     """One CSV row (see :data:`CSV_COLUMNS`): °C values, bands as low/high columns."""
     from .logbook_csv import neutralise_cell
+    from .reading import band_columns
 
     result = measured.result or {}
-    band68 = result.get("interval_68_c") or (None, None)
-    band95 = result.get("interval_95_c") or (None, None)
     camera = result.get("camera") or {}
     row = {
         "photo": measured.path,
         "status": result.get("status", "error"),
-        "temperature_c": result.get("temperature_c"),
-        "band68_low_c": band68[0],
-        "band68_high_c": band68[1],
-        "band95_low_c": band95[0],
-        "band95_high_c": band95[1],
-        "upper_bound_c": result.get("upper_bound_c"),
+        **band_columns(result),
         "resolution_c": result.get("resolution_c"),
         "glow_name": result.get("glow_name"),
         "pixels_used": result.get("pixels_used"),

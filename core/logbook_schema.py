@@ -90,17 +90,12 @@ RESULT_COLUMNS = (
 
 def result_columns(result: dict) -> dict:
     """The queryable columns of a reading's result (the JSON of ``Reading.to_dict()``)."""
-    band68 = result.get("interval_68_c") or (None, None)
-    band95 = result.get("interval_95_c") or (None, None)
+    from .reading import band_columns
+
     region = result.get("region") or {}
     return {
         "status": result.get("status"),
-        "temperature_c": result.get("temperature_c"),
-        "band68_low_c": band68[0],
-        "band68_high_c": band68[1],
-        "band95_low_c": band95[0],
-        "band95_high_c": band95[1],
-        "upper_bound_c": result.get("upper_bound_c"),
+        **band_columns(result),
         "region_text": region.get("text") if isinstance(region, dict) else None,
         "profile": result.get("profile"),
     }

@@ -115,6 +115,20 @@ class Reading:
         }
 
 
+def band_columns(result: dict) -> dict:
+    """A reading's °C estimate and bands as flat columns (for CSV files and database rows)."""
+    band68 = result.get("interval_68_c") or (None, None)
+    band95 = result.get("interval_95_c") or (None, None)
+    return {
+        "temperature_c": result.get("temperature_c"),
+        "band68_low_c": band68[0],
+        "band68_high_c": band68[1],
+        "band95_low_c": band95[0],
+        "band95_high_c": band95[1],
+        "upper_bound_c": result.get("upper_bound_c"),
+    }
+
+
 def region_colour_hex(mean_linear, space) -> str | None:
     """The region's mean colour as an sRGB display swatch (IEC 61966-2-1), brightest channel full."""
     if not np.all(np.isfinite(mean_linear)):
