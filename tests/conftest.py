@@ -52,6 +52,35 @@ def two_halves_jpeg() -> bytes:
     return encode_jpeg(rendered)
 
 
+# A round bar glowing from 1000 °C where it enters the frame to 1350 °C at its free end, which
+# lies at 68 % of the width (glowtemp.synthetic_scenes.BAR_END), rendered through the ideal CIE
+# observer camera with unit white-balance gains, so the photo records CIE XYZ colours (invented
+# test scene).
+BAR_COOL_END_C, BAR_HOT_END_C, BAR_END = 1000.0, 1350.0, 0.68
+HOT_BAR_SIZE = (320, 200)
+
+
+@pytest.fixture(scope="session")
+def hot_bar():
+    """(rendered photo, its JPEG bytes) of the bar whose right end is hottest."""
+    from glowtemp.scales import celsius_to_kelvin
+    from glowtemp.synthetic import encode_jpeg, render_photo
+    from glowtemp.synthetic_camera import ideal_camera
+
+    def field(x, y):
+        return celsius_to_kelvin(BAR_COOL_END_C + (BAR_HOT_END_C - BAR_COOL_END_C) * np.clip(x / BAR_END, 0, 1))
+
+    rendered = render_photo(field, camera=ideal_camera(), white_balance=(1.0, 1.0, 1.0), scene="bar",
+                            size=HOT_BAR_SIZE, seed=4)  # fmt: skip
+    return rendered, encode_jpeg(rendered)
+
+
+def tile_truth_c(rendered, tile: dict) -> float:
+    """The rendered temperature of a map tile's glowing pixels, mean in °C."""
+    x, y = tile["x"], tile["y"]
+    return float(np.nanmean(rendered.truth_k[y : y + tile["height"], x : x + tile["width"]])) - 273.15
+
+
 @pytest.fixture(scope="session")
 def dark_jpeg() -> bytes:
     """A plain dark-grey JPEG with nothing glowing in it."""

@@ -286,3 +286,56 @@ def test_a_raw_photo_is_measured_and_shown_in_its_glow_colour(live_server, brows
     assert abs(red - expected[0]) <= 20 and abs(green - expected[1]) <= 20 and blue <= 20
     page.locator("#photo-section").scroll_into_view_if_needed()
     page.screenshot(path=artifacts / "web-09-raw-photo.png")
+
+
+def test_the_map_shows_the_bar_s_hot_end_with_its_band(live_server, browser_page, artifacts, tmp_path, hot_bar):
+    from conftest import tile_truth_c
+
+    page = browser_page
+    rendered, data = hot_bar
+    photo = tmp_path / "bar.jpg"
+    photo.write_bytes(data)
+    upload(page, live_server, photo)
+    button = page.locator("#map-make")
+    button.scroll_into_view_if_needed()
+    box = button.bounding_box()
+    assert box["height"] >= 56 and box["width"] >= 300  # a big target for a gloved thumb
+    page.screenshot(path=artifacts / "web-10-map-offered.png")
+    with page.expect_response(lambda r: r.url.endswith("/map")) as answer:
+        button.click()
+    made = answer.value.json()
+    record, record_id = made["temperature_map"], made["id"]
+    page.wait_for_function("() => { const p = document.getElementById('map-picture');"
+                           " return !p.hidden && p.complete && p.naturalWidth > 0; }", timeout=WAIT_MS)
+    hot = record["hottest"]
+    # The bar is rendered hottest at its free end on the right (conftest); the hottest patch is
+    # there and its band holds the rendered temperature of its pixels.
+    assert hot["column"] == record["columns"] - 1
+    low, high = hot["interval_95_c"]
+    assert low <= tile_truth_c(rendered, hot) <= high
+    hottest = re.sub(r"\s+", " ", page.inner_text("#map-extremes [data-tile=hottest]"))
+    assert f"{hot['temperature_c']} °C" in hottest and f"95 % band {low} – {high} °C" in hottest
+    assert "right" in hottest
+    cool = record["coolest"]
+    assert f"{cool['temperature_c']} °C" in page.inner_text("#map-extremes [data-tile=coolest]")
+    assert page.evaluate("document.documentElement.scrollWidth") <= PHONE_VIEWPORT["width"]
+    assert page.get_attribute("#map-full", "href").endswith(f"/api/readings/{record_id}/map.svg?unit=C")
+    page.locator("#map-section").scroll_into_view_if_needed()
+    page.screenshot(path=artifacts / "web-10-map.png")
+    page.screenshot(path=artifacts / "web-10-map-full.png", full_page=True)
+
+    # In °F the patches show the core's °F values (rounded to their own step), and the
+    # picture is drawn again with a °F legend.
+    with page.expect_response(lambda r: "map.svg?unit=F" in r.url) as picture:
+        page.click("[data-unit=f]")
+    assert picture.value.ok
+    low_f, high_f = hot["interval_95_f"]
+    hottest = re.sub(r"\s+", " ", page.inner_text("#map-extremes [data-tile=hottest]"))
+    assert f"{hot['temperature_f']} °F" in hottest and f"95 % band {low_f} – {high_f} °F" in hottest
+
+    # Moving the area puts the map away until it is asked for again.
+    page.focus("#overlay g")
+    with page.expect_response(lambda r: "/region" in r.url):
+        page.keyboard.press("ArrowLeft")
+    assert page.locator("#map-shown").is_hidden() and page.locator("#map-make").is_visible()
+    assert "map it again" in page.inner_text("#map-status")

@@ -1,11 +1,12 @@
 """The glowtemp web app: a Flask application factory and one blueprint per area.
 
 Areas: ``measuring`` (the phone page that takes a photo and shows the reading), ``api`` (the
-JSON calls the page and scripts use), ``pages`` (safety notes), ``firings`` (the firing log) and
-``access`` (pairing a device). Every request passes the checks of :mod:`.access` and
-:mod:`.limits`; every answer gets the headers of :mod:`.headers`. Other areas register their own
-blueprint in :func:`create_app`; an area whose blueprint has an ``index`` endpoint listed in
-``NAV_AREAS`` appears in the top bar of ``templates/base.html``.
+JSON calls the page and scripts use), ``maps`` (a reading's temperature map), ``pages``
+(safety notes), ``firings`` (the firing log) and ``access`` (pairing a device). Every request
+passes the checks of :mod:`.access` and :mod:`.limits`; every answer gets the headers of
+:mod:`.headers`. Other areas register their own blueprint in :func:`create_app`; an area whose
+blueprint has an ``index`` endpoint listed in ``NAV_AREAS`` appears in the top bar of
+``templates/base.html``.
 """
 
 from __future__ import annotations
@@ -53,7 +54,7 @@ def create_app(config: dict | None = None) -> Flask:
     from glowtemp.logbook import Logbook
     from glowtemp.sessions import SessionStore
 
-    from . import access, api, errors, firings, headers, limits, measuring, pages
+    from . import access, api, errors, firings, headers, limits, maps, measuring, pages
     from .pairing import PairingCodes
     from .photo_cache import PhotoCache
 
@@ -68,6 +69,7 @@ def create_app(config: dict | None = None) -> Flask:
     access.register(app)
     app.register_blueprint(measuring.blueprint)
     app.register_blueprint(api.blueprint)
+    app.register_blueprint(maps.blueprint)
     app.register_blueprint(pages.blueprint)
     app.register_blueprint(firings.blueprint)
     errors.register(app)

@@ -37,7 +37,7 @@ def _services():
     return current_app.extensions["glowtemp"]
 
 
-def _fields() -> dict:
+def request_fields() -> dict:
     """The request's text fields, from a JSON body or a form."""
     if request.is_json:
         body = request.get_json(silent=True)
@@ -47,23 +47,25 @@ def _fields() -> dict:
     return {key: value for key, value in request.form.items() if key != TOKEN_FIELD}
 
 
-def _answer(result: dict, reading_id: int, photo, status: int):
+def reading_answer(result: dict, reading_id: int, photo, status: int, **extra):
+    """The reading's JSON form with its id, the photo's size and the preview's address (and ``extra``)."""
     body = {
         **result,
         "id": reading_id,
         "image": {"width": photo.width, "height": photo.height},
         "preview_url": url_for("api.preview", reading_id=reading_id),
+        **extra,
     }
     return jsonify(body), status
 
 
 @blueprint.post("/readings")
 def create_reading():
-    taken = take_upload(_fields())
-    return _answer(taken.result, taken.reading_id, taken.photo, 201)
+    taken = take_upload(request_fields())
+    return reading_answer(taken.result, taken.reading_id, taken.photo, 201)
 
 
-def _stored(reading_id: int):
+def stored_reading(reading_id: int):
     """The stored reading and its decoded photo; 404 when there is no such reading."""
     from glowtemp.photo import load_photo
 
@@ -81,21 +83,21 @@ def _stored(reading_id: int):
 
 @blueprint.post("/readings/<int:reading_id>/region")
 def measure_region(reading_id: int):
-    fields = _fields()
+    fields = request_fields()
     region, profile = region_from(fields), profile_from(fields)
     if region is None:
         raise ApiError("Send the new region as 'region' (X,Y,W,H or circle:CX,CY,R) or 'circle' (CX,CY,R).")
-    stored, photo = _stored(reading_id)
+    stored, photo = stored_reading(reading_id)
     result = measure_photo(photo, region, profile, stored["photo_name"])
     _services()["logbook"].update_reading_result(reading_id, result)
-    return _answer(result, reading_id, photo, 200)
+    return reading_answer(result, reading_id, photo, 200)
 
 
 @blueprint.get("/readings/<int:reading_id>/preview")
 def preview(reading_id: int):
     from .preview import preview_jpeg
 
-    _, photo = _stored(reading_id)
+    _, photo = stored_reading(reading_id)
     return send_file(io.BytesIO(preview_jpeg(photo, PREVIEW_LONG_SIDE_PX)), mimetype="image/jpeg")
 
 

@@ -96,17 +96,22 @@ def decode(data: bytes):
         raise ApiError(str(error), 422) from None
 
 
-def measure_photo(photo, region, profile, photo_name: str) -> dict:
-    """The reading's JSON form; when the glow finder finds nothing, 422 asks for a drawn region."""
+def measure_reading(photo, region, profile, photo_name: str):
+    """The :class:`glowtemp.reading.Reading`; when the glow finder finds nothing, 422 asks for a drawn region."""
     from glowtemp.reading import measure
     from glowtemp.region import RegionError
 
     try:
-        return measure(photo, region, photo_name=photo_name, profile=profile).to_dict()
+        return measure(photo, region, photo_name=photo_name, profile=profile)
     except RegionError as error:
         if region is None:
             raise ApiError(str(error), 422, draw_region=True) from None
         raise ApiError(str(error)) from None
+
+
+def measure_photo(photo, region, profile, photo_name: str) -> dict:
+    """The reading's JSON form (see :func:`measure_reading`)."""
+    return measure_reading(photo, region, profile, photo_name).to_dict()
 
 
 def stored_name(data: bytes, photo) -> str:

@@ -1,6 +1,7 @@
 // The measuring page: send a photo, show the reading, let the user move the measured area.
 import { RegionEditor } from "./region.js";
 import { paintScale, showReading } from "./result.js";
+import { clearMap, mapStatus, showMap } from "./tilemap.js";
 
 const $ = (id) => document.getElementById(id);
 // The form token of a paired device's session ("" where the server needs none); sent with
@@ -32,7 +33,7 @@ const editor = new RegionEditor($("overlay"), (text) => remeasure(text));
 
 // The result card, the notes after the photo and the "another photo" button come and go together.
 function showResultBlocks(visible) {
-  for (const id of ["result", "result-end"]) $(id).hidden = !visible;
+  for (const id of ["result", "map-section", "result-end"]) $(id).hidden = !visible;
 }
 
 function showProblem(message) {
@@ -128,6 +129,7 @@ function offerDrawing(file) {
 
 function showResult(reading) {
   state.reading = reading;
+  clearMap();
   editor.setRegion(reading.region);
   choosePhotoKind(reading.region.kind);
   showReading(reading, state.unit);
@@ -141,6 +143,7 @@ function showResult(reading) {
 async function remeasure(regionText) {
   if (!state.reading) return;  // no stored photo yet: the "Measure this area" button sends it
   const sequence = ++state.sequence;
+  if (mapOnShow()) clearMap("The area or the camera profile changed: map it again to see its spots.");
   $("region-status").textContent = "Measuring this area…";
   const response = await fetch(`/api/readings/${state.reading.id}/region`, {
     method: "POST",
@@ -156,6 +159,33 @@ async function remeasure(regionText) {
   state.reading = body;
   showReading(body, state.unit);
   $("region-status").textContent = "Measured again.";
+}
+
+function mapOnShow() {
+  return !$("map-shown").hidden || $("map-make").disabled;
+}
+
+// Read the outlined area patch by patch; the answer is the reading again, with its map.
+async function makeMap() {
+  if (!state.reading) return;
+  const sequence = ++state.sequence;
+  $("map-make").disabled = true;
+  mapStatus("Reading each patch of the area…");
+  const response = await fetch(`/api/readings/${state.reading.id}/map`, {
+    method: "POST",
+    headers: { "Content-Type": "application/json", ...TOKEN_HEADERS },
+    body: JSON.stringify({ region: editor.text(), profile: state.profile }),
+  }).catch(() => null);
+  if (sequence !== state.sequence) return;  // the area changed meanwhile: that answer is stale
+  const body = response ? await response.json().catch(() => ({})) : {};
+  $("map-make").disabled = false;
+  if (!response || !response.ok) {
+    mapStatus(body.error || "The server could not be reached. Is glowtemp still running?");
+    return;
+  }
+  state.reading = body;
+  showReading(body, state.unit);
+  showMap(body, state.unit);
 }
 
 async function loadScale() {
@@ -196,6 +226,7 @@ function showUnit(unit) {
   }
   if (state.scale) paintScale(state.scale, unit);
   if (state.reading) showReading(state.reading, unit);
+  if (state.reading?.temperature_map) showMap(state.reading, unit);
 }
 
 for (const input of [$("camera-input"), $("file-input")]) {
@@ -211,6 +242,7 @@ for (const chip of document.querySelectorAll("[data-shape]")) {
   chip.addEventListener("click", () => { choosePhotoKind(chip.dataset.shape); editor.setKind(chip.dataset.shape); });
 }
 $("measure-drawn").addEventListener("click", () => upload(state.file, editor.text()));
+$("map-make").addEventListener("click", makeMap);
 for (const select of document.querySelectorAll("[data-profile]")) {
   select.addEventListener("change", () => setProfile(select.value));
 }
