@@ -4,7 +4,9 @@ Upper panel: the estimated temperature with its 95 % band (light) and 68 % band 
 ceilings for readings whose colour gives only an upper bound, thermocouple values as
 diamonds, witness cones as triangles at their approximate bending temperature (filled when
 bent, hollow when standing) labelled with their cone, and the target as a dashed line.
-Lower panel: the climb rate between consecutive estimates, as filled steps.
+Lower panel: the climb rate between consecutive estimates, as steps, shaded over its band
+(one standard uncertainty either side, the 68 % band, propagated from the readings' own
+bands as :func:`glowtemp.curve.step_rate_band_c_per_h` does after GUM 5.1.2).
 
 matplotlib is imported when a chart is drawn, so nothing else pays its start-up time. Only
 the object-oriented API is used (no pyplot state), and drawing is serialised by a lock
@@ -14,10 +16,20 @@ because matplotlib's text and font caches are shared between threads.
 from __future__ import annotations
 
 import io
+import math
 import threading
+from dataclasses import dataclass
 
 from .cones import cone_table
-from .curve import CurvePoint, climb_rates_c_per_h, curve_points, estimate_series, firing_target_c
+from .curve import (
+    CurvePoint,
+    band_sigma_c,
+    climb_rates_c_per_h,
+    curve_points,
+    estimate_series,
+    firing_target_c,
+    step_rate_band_c_per_h,
+)
 from .scales import celsius_to_fahrenheit
 
 ESTIMATE_COLOUR = "#8c3b12"
@@ -26,11 +38,58 @@ BAND68_COLOUR = "#e9995a"
 THERMOCOUPLE_COLOUR = "#24507a"
 CONE_COLOUR = "#2e6b3f"
 TARGET_COLOUR = "#6a6a6a"
-RATE_COLOUR = "#7b6a58"
+RATE_COLOUR = "#5c4d3d"
+RATE_BAND_COLOUR = "#d8c8b4"
+RATE_BAND_GID = "climb-band"  # the band's id in the SVG
 FIGURE_SIZE_IN = (7.0, 5.2)  # the PNG, for a screen or paper
 WEB_FIGURE_SIZE_IN = (4.6, 5.0)  # the SVG, sized so its text stays readable on a phone
 
 _drawing = threading.Lock()
+
+
+@dataclass(frozen=True)
+class ClimbStep:
+    """The climb between two consecutive estimates: hours, rate and its 68 % half-width, °C/h.
+
+    ``rate_c_per_h`` is None where both readings share one time; ``plus_minus_c_per_h`` is None
+    there and where a reading has no band.
+    """
+
+    start_h: float
+    end_h: float
+    rate_c_per_h: float | None
+    plus_minus_c_per_h: float | None
+
+
+def climb_steps(points: list[CurvePoint]) -> list[ClimbStep]:
+    """The steps the lower panel draws, one per pair of consecutive estimates.
+
+    >>> def point(hours, t, u):
+    ...     return CurvePoint(0, hours, t, (t - u, t + u), None, None, None, None, None, None)
+    >>> climb_steps([point(0.0, 900.0, 30.0), point(0.5, 960.0, 40.0)])
+    [ClimbStep(start_h=0.0, end_h=0.5, rate_c_per_h=120.0, plus_minus_c_per_h=100.0)]
+    """
+    usable = [p for p in points if p.temperature_c is not None]
+    hours, temperatures_c = estimate_series(points)
+    steps = []
+    for rate, p0, p1 in zip(climb_rates_c_per_h(hours, temperatures_c), usable, usable[1:]):
+        sigmas = (band_sigma_c(p0), band_sigma_c(p1))
+        band = None if rate is None or None in sigmas else step_rate_band_c_per_h((p0.hours, p1.hours), sigmas)
+        steps.append(ClimbStep(p0.hours, p1.hours, rate, band))
+    return steps
+
+
+def _draw_climb(axes, steps: list[ClimbStep], rate_scale: float) -> None:
+    """Steps of the climb rate with their band shaded around them (a gap where a step has none,
+    and where two readings share one time)."""
+    edges = [steps[0].start_h] + [step.end_h for step in steps]
+    rates = [math.nan if step.rate_c_per_h is None else step.rate_c_per_h * rate_scale for step in steps]
+    widths = [math.nan if step.plus_minus_c_per_h is None else step.plus_minus_c_per_h * rate_scale for step in steps]
+    if any(not math.isnan(width) for width in widths):
+        axes.stairs([r + w for r, w in zip(rates, widths)], edges, baseline=[r - w for r, w in zip(rates, widths)],
+                    fill=True, color=RATE_BAND_COLOUR, linewidth=0, label="climb rate, 68 % band",
+                    gid=RATE_BAND_GID)  # fmt: skip
+    axes.stairs(rates, edges, color=RATE_COLOUR, linewidth=1.6, baseline=None)
 
 
 def _to_unit(unit: str):
@@ -79,14 +138,13 @@ def _figure(points, target_c, target_label, unit: str, title: str | None, size_i
         heat.axhline(convert(target_c), color=TARGET_COLOUR, linestyle="--", linewidth=1.0, label=target_label or "target")
 
     heat.set_ylabel(f"temperature (°{unit})")
+    steps = climb_steps(points)
+    if steps:  # one step per pair of readings (a zero-width step where two share a time)
+        _draw_climb(rate, steps, rate_scale)
     if heat.get_legend_handles_labels()[0]:
         figure.legend(loc="outside lower center", ncols=3 if size_in[0] > 6 else 2, fontsize="small", frameon=False)
     else:
         heat.text(0.5, 0.5, "no readings yet", transform=heat.transAxes, ha="center", va="center", color=TARGET_COLOUR)
-
-    rates = climb_rates_c_per_h(hours, estimates_c)
-    if rates:  # one filled step per pair of readings (a zero-width step where two share a time)
-        rate.stairs([0.0 if r is None else r * rate_scale for r in rates], hours, fill=True, color=RATE_COLOUR)
     rate.axhline(0, color=TARGET_COLOUR, linewidth=0.6)
     rate.set_ylabel(f"climb (°{unit}/h)")
     rate.set_xlabel("hours since the start")
