@@ -12,6 +12,8 @@
 - ``GET /api/scale``: blackbody colours along a temperature scale, for painting.
 - ``GET /api/profiles``: the stored camera profiles, for the picker.
 
+A reading's temperature map (``/api/readings/<id>/map``) is in :mod:`glowtemp.web.maps`.
+
 Errors answer ``{"error": message}`` with a 4xx status; nothing is stored when a request fails.
 """
 
