@@ -23,8 +23,7 @@ import threading
 
 import numpy as np
 
-from .colourspaces import SRGB, srgb_encode
-from .scales import celsius_to_fahrenheit
+from .display import display_srgb
 
 COLOUR_MAP = "inferno"
 TILE_ALPHA = 0.62
@@ -37,10 +36,11 @@ _drawing = threading.Lock()
 
 
 def _unit(unit: str):
+    """The JSON key suffix and symbol of a unit: values are the core's, rounded to their band."""
     if unit == "C":
-        return (lambda t: t), "°C"
+        return "_c", "°C"
     if unit == "F":
-        return celsius_to_fahrenheit, "°F"
+        return "_f", "°F"
     raise ValueError(f"The map unit must be 'C' or 'F'; got {unit!r}.")
 
 
@@ -48,10 +48,7 @@ def display_copy(photo, box):
     """The photo inside ``box`` (x0, y0, x1, y1) as sRGB display values in [0, 1] and its step."""
     x0, y0, x1, y1 = box
     step = max(1, int(np.ceil(max(x1 - x0, y1 - y0) / DISPLAY_SIDE_PX)))
-    linear = photo.linear(photo.codes[y0:y1:step, x0:x1:step]).astype(np.float64)
-    rgb = linear @ (SRGB.xyz_to_rgb @ photo.space.rgb_to_xyz).T
-    top = float(np.percentile(rgb.max(axis=2), 99.5)) or 1.0
-    return srgb_encode(np.clip(rgb / top, 0.0, 1.0)), step
+    return display_srgb(photo, photo.codes[y0:y1:step, x0:x1:step], bright_to_full=True), step
 
 
 def _view_box(tile_map, photo):
@@ -63,9 +60,9 @@ def _view_box(tile_map, photo):
     )  # fmt: skip
 
 
-def _band_text(tile, convert, symbol) -> str:
-    low, high = tile["interval_95_c"]
-    return f"{convert(tile['temperature_c']):.0f} {symbol} (95 %: {convert(low):.0f}-{convert(high):.0f})"
+def _band_text(tile, suffix, symbol) -> str:
+    low, high = tile[f"interval_95{suffix}"]
+    return f"{tile[f'temperature{suffix}']} {symbol} (95 %: {low}-{high})"
 
 
 def _figure(photo, tile_map, unit: str, title: str | None):
@@ -74,7 +71,7 @@ def _figure(photo, tile_map, unit: str, title: str | None):
     from matplotlib.figure import Figure
     from matplotlib.patches import Rectangle as Patch
 
-    convert, symbol = _unit(unit)
+    suffix, symbol = _unit(unit)
     record = tile_map.to_dict()
     box = _view_box(tile_map, photo)
     picture, step = display_copy(photo, box)
@@ -88,7 +85,7 @@ def _figure(photo, tile_map, unit: str, title: str | None):
     axes.set_xticks([])
     axes.set_yticks([])
 
-    estimates = [convert(t["temperature_c"]) for t in record["tiles"] if t["temperature_c"] is not None]
+    estimates = [t[f"temperature{suffix}"] for t in record["tiles"] if t[f"temperature{suffix}"] is not None]
     low, high = (min(estimates), max(estimates)) if estimates else (0.0, 1.0)
     if high - low < 10:
         low, high = low - 5, high + 5
@@ -98,15 +95,15 @@ def _figure(photo, tile_map, unit: str, title: str | None):
         corner, width, height = (tile["x"], tile["y"]), tile["width"], tile["height"]
         centre = (tile["x"] + width / 2, tile["y"] + height / 2)
         label_size = max(5.0, min(9.0, 0.9 * width / max(box[2] - box[0], 1) * FIGURE_WIDTH_IN * 72 / 3))
-        if tile["temperature_c"] is not None:
-            value = convert(tile["temperature_c"])
+        if tile[f"temperature{suffix}"] is not None:
+            value = tile[f"temperature{suffix}"]
             axes.add_patch(Patch(corner, width, height, facecolor=colours(scale(value)), alpha=TILE_ALPHA,
                                  edgecolor="#000000", linewidth=0.4))  # fmt: skip
             shade = "#000000" if scale(value) > 0.6 else "#ffffff"
             axes.text(*centre, f"{value:.0f}", ha="center", va="center", color=shade, fontsize=label_size)
-        elif tile["upper_bound_c"] is not None:
+        elif tile[f"upper_bound{suffix}"] is not None:
             axes.add_patch(Patch(corner, width, height, fill=False, hatch="///", edgecolor="#bbbbbb", linewidth=0.4))
-            axes.text(*centre, f"<{convert(tile['upper_bound_c']):.0f}", ha="center", va="center",
+            axes.text(*centre, f"<{tile[f'upper_bound{suffix}']}", ha="center", va="center",
                       color="#ffffff", fontsize=label_size)  # fmt: skip
         else:
             axes.add_patch(Patch(corner, width, height, fill=False, edgecolor="#888888", linewidth=0.4, linestyle=":"))
@@ -117,7 +114,7 @@ def _figure(photo, tile_map, unit: str, title: str | None):
             continue
         axes.add_patch(Patch((tile["x"], tile["y"]), tile["width"], tile["height"], fill=False,
                              edgecolor=colour, linewidth=2.2))  # fmt: skip
-        lines.append(f"{name} (framed {'white' if key == 'hottest' else 'blue'}): {_band_text(tile, convert, symbol)}")
+        lines.append(f"{name} (framed {'white' if key == 'hottest' else 'blue'}): {_band_text(tile, suffix, symbol)}")
     if not lines:
         lines.append("no tile gives a central estimate")
     elif record["bands_overlap"] is False:

@@ -119,6 +119,10 @@ def test_the_overlay_is_a_png_or_an_svg_with_its_legend_unit(bar):
     svg = draw_map(photo, tile_map, unit="F", image_format="svg").decode("utf-8")
     ElementTree.fromstring(svg)  # well-formed XML
     assert "°F" in svg or "&#176;F" in svg
+    # The picture quotes the core's °F values (rounded to their own band), not converted °C.
+    hot = tile_map.to_dict()["hottest"]
+    low, high = hot["interval_95_f"]
+    assert f"{hot['temperature_f']} °F (95 %: {low}-{high})" in svg.replace("&#176;", "°")
     with pytest.raises(ValueError, match="'C' or 'F'"):
         draw_map(photo, tile_map, unit="K")
 
