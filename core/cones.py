@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import csv
 import io
-from importlib import resources
 from pathlib import Path
 
 CONE_SIGMA_C = 15.0  # 1-sigma of a cone reference: heating-rate shift plus reading the bend
@@ -48,7 +47,7 @@ def cone_table(data_dir: Path | None = None) -> tuple[dict[str, float], str]:
     if data_dir is not None and (Path(data_dir) / USER_TABLE_NAME).is_file():
         path = Path(data_dir) / USER_TABLE_NAME
         return _parse_table(path.read_text(encoding="utf-8"), str(path)), "your cones.csv"
-    text = (resources.files(__package__) / "data" / "cones_approx.csv").read_text(encoding="utf-8")
+    text = (Path(__file__).with_name("data") / "cones_approx.csv").read_text(encoding="utf-8")
     return _parse_table(text, "shipped with glowtemp"), "approximate table (from memory, ~60 °C/h)"
 
 

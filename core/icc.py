@@ -22,7 +22,6 @@ References
 
 from __future__ import annotations
 
-import hashlib
 import struct
 from dataclasses import dataclass
 from datetime import datetime, timezone
@@ -330,6 +329,8 @@ def _assemble(header_fields: dict, tags: list) -> bytes:
     profile = bytearray(header + body)
     if header_fields["version"] >= 0x04000000:
         # Profile ID: MD5 of the profile with flags, intent and ID zeroed, ICC.1:2010 7.2.18
+        import hashlib  # only profile writing needs it; decoding photos must start fast
+
         scratch = bytearray(profile)
         scratch[44:48] = scratch[64:68] = b"\0" * 4
         profile[84:100] = hashlib.md5(bytes(scratch)).digest()

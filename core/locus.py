@@ -19,13 +19,14 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from functools import lru_cache
-from importlib import resources
+from pathlib import Path
 
 import numpy as np
 
 from .colourspaces import SRGB, RGBSpace, srgb_encode
 from .radiation import SECOND_RADIATION_C2, spectral_radiance
 
+DATA_DIR = Path(__file__).with_name("data")
 TABLE_MIN_K = 700.0
 TABLE_MAX_K = 4000.0
 TABLE_STEP_K = 1.0
@@ -34,9 +35,7 @@ TABLE_STEP_K = 1.0
 @lru_cache(maxsize=1)
 def colour_matching_functions():
     """CIE 1931 2-degree CMFs: (wavelengths in nm, array of shape (n, 3)), 360-830 nm by 1 nm."""
-    path = resources.files(__package__) / "data" / "cie1931_2deg_cmf.csv"
-    with path.open("r") as handle:
-        table = np.loadtxt(handle, delimiter=",", comments="#")
+    table = np.loadtxt(DATA_DIR / "cie1931_2deg_cmf.csv", delimiter=",", comments="#")
     return table[:, 0], table[:, 1:4]
 
 
@@ -80,9 +79,7 @@ def table_grid() -> np.ndarray:
 def blackbody_table() -> BlackbodyTable:
     """The blackbody table, read from ``data/blackbody_xyz.npy`` (written by
     ``scripts/export_tables.py`` with :func:`blackbody_xyz`; a test checks it stays equal)."""
-    with (resources.files(__package__) / "data" / "blackbody_xyz.npy").open("rb") as handle:
-        xyz = np.load(handle)
-    return BlackbodyTable(temperature_k=table_grid(), xyz=xyz)
+    return BlackbodyTable(temperature_k=table_grid(), xyz=np.load(DATA_DIR / "blackbody_xyz.npy"))
 
 
 def clipped_linear_rgb(xyz, space: RGBSpace = SRGB):
