@@ -5,13 +5,10 @@ JSON calls the page and scripts use), ``maps`` (a reading's temperature map), ``
 (safety notes), ``firings`` (the firing log) and ``access`` (pairing a device). Every request
 passes the checks of :mod:`.access` and :mod:`.limits`; every answer gets the headers of
 :mod:`.headers`. Other areas register their own blueprint in :func:`create_app`; an area whose
-blueprint has an ``index`` endpoint listed in ``NAV_AREAS`` appears in the top bar of
-``templates/base.html``.
+endpoint is listed in ``NAV_AREAS`` appears in the top bar of ``templates/base.html``.
 """
 
 from __future__ import annotations
-
-from pathlib import Path
 
 from flask import Flask, current_app
 
@@ -85,8 +82,3 @@ def create_app(config: dict | None = None) -> Flask:
 def nav_links() -> list[tuple[str, str]]:
     """The top-bar areas whose endpoints exist in the running app."""
     return [(endpoint, label) for endpoint, label in NAV_AREAS if endpoint in current_app.view_functions]
-
-
-def data_folder() -> Path:
-    """The running app's data folder."""
-    return current_app.config["DATA_DIR"]
