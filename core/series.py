@@ -29,10 +29,10 @@ def _named(items) -> str:
 
 
 def measured_series(paths, *, region=None, profile=None, jobs=None, progress=None) -> list:
-    from .batch import measure_many
-
     """(taken_at, Measured) for every photo, in time order; raises :class:`SeriesError` if any
     photo cannot be measured or has no EXIF time."""
+    from .batch import measure_many
+
     measured = list(measure_many(paths, region=region, profile=profile, jobs=jobs, progress=progress))
     failed = [f"{m.path}: {m.error}" for m in measured if m.error]
     if failed:
