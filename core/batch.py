@@ -69,13 +69,12 @@ def collect_photos(inputs) -> list[str]:
 def measure_file(path: str, region=None, profile=None) -> Measured:
     """Decode and measure one photo file, as ``glowtemp measure`` does."""
     from .photo import PhotoError, load_photo
-    from .raw import uncalibrated_term
     from .reading import measure
     from .region import RegionError
 
     try:
         photo = load_photo(path)
-        reading = measure(photo, region, camera=uncalibrated_term(photo), photo_name=path, profile=profile)
+        reading = measure(photo, region, photo_name=path, profile=profile)
     except (PhotoError, RegionError, OSError) as error:
         return Measured(path, None, getattr(error, "strerror", None) or str(error))
     return Measured(path, reading.to_dict(), None, photo.format)
