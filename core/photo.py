@@ -103,8 +103,9 @@ class Photo:
     """A decoded photo: upright encoded codes and how they map to linear light.
 
     ``codes`` is a read-only (H, W, 3) uint8 or uint16 array; ``decode_table`` is float32 of
-    shape (3, max_code + 1); ``space_source`` is ``"icc"``, ``"exif"`` or ``"assumed"``;
-    ``profile_problem`` says why an embedded profile was not used (then sRGB is assumed).
+    shape (3, max_code + 1); ``space_source`` is ``"icc"``, ``"cicp"`` (HEIF colour information),
+    ``"exif"``, ``"dng"`` (a raw file's colour matrix) or ``"assumed"``; ``profile_problem``
+    says why an embedded profile was not used (then sRGB is assumed).
     """
 
     codes: np.ndarray
