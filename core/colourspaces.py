@@ -89,6 +89,19 @@ def srgb_encode(linear):
     return np.where(v <= 0.0031308, v * 12.92, 1.055 * v ** (1 / 2.4) - 0.055)
 
 
+def srgb_swatch_hex(linear_srgb) -> str | None:
+    """Hex display colour of linear sRGB, clipped to the gamut and scaled so its strongest
+    channel is full scale, encoded as IEC 61966-2-1; None for black.
+
+    >>> srgb_swatch_hex([0.5, 0.0015654, -0.1])  # green at the curve's knee: 0.04045 of full
+    '#ff0a00'
+    """
+    rgb = np.clip(np.asarray(linear_srgb, dtype=float), 0.0, None)
+    if rgb.max() <= 0:
+        return None
+    return "#" + "".join(f"{round(float(v) * 255):02x}" for v in srgb_encode(rgb / rgb.max()))
+
+
 def gamma_decode(encoded, gamma):
     """Pure power-law decoding, ``linear = encoded ** gamma`` (Adobe RGB (1998): gamma = 563/256)."""
     return np.clip(np.asarray(encoded, dtype=float), 0.0, None) ** gamma

@@ -23,7 +23,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .colourspaces import SRGB, RGBSpace, srgb_encode
+from .colourspaces import SRGB, RGBSpace, srgb_swatch_hex
 from .radiation import SECOND_RADIATION_C2, spectral_radiance
 
 DATA_DIR = Path(__file__).with_name("data")
@@ -115,7 +115,7 @@ def locus_ratios(space: RGBSpace = SRGB, clipped: bool = True) -> np.ndarray:
     return _locus_ratios(space, clipped)
 
 
-def blackbody_swatch_hex(temperature_k, space: RGBSpace = SRGB) -> str:
+def blackbody_swatch_hex(temperature_k) -> str:
     """sRGB hex colour of a blackbody, normalised so its strongest channel is full scale.
 
     A display swatch, gamut-clipped as a camera would clip it (IEC 61966-2-1 encoding).
@@ -123,6 +123,4 @@ def blackbody_swatch_hex(temperature_k, space: RGBSpace = SRGB) -> str:
     >>> blackbody_swatch_hex(1273.15)
     '#ff4e00'
     """
-    rgb = clipped_linear_rgb(blackbody_xyz(temperature_k)[0], space)
-    rgb = rgb / rgb.max()
-    return "#" + "".join(f"{round(float(v) * 255):02x}" for v in srgb_encode(rgb))
+    return srgb_swatch_hex(clipped_linear_rgb(blackbody_xyz(temperature_k)[0]))

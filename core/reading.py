@@ -11,7 +11,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from . import advice
-from .colourspaces import SRGB, srgb_encode
+from .colourspaces import SRGB, srgb_swatch_hex
 from .estimate import (
     CameraTerm,
     TemperatureEstimate,
@@ -133,11 +133,7 @@ def region_colour_hex(mean_linear, space) -> str | None:
     """The region's mean colour as an sRGB display swatch (IEC 61966-2-1), brightest channel full."""
     if not np.all(np.isfinite(mean_linear)):
         return None
-    rgb = np.clip(SRGB.xyz_to_rgb @ (space.rgb_to_xyz @ np.asarray(mean_linear)), 0.0, None)
-    if rgb.max() <= 0:
-        return None
-    rgb = srgb_encode(rgb / rgb.max())
-    return "#" + "".join(f"{round(float(v) * 255):02x}" for v in rgb)
+    return srgb_swatch_hex(SRGB.xyz_to_rgb @ (space.rgb_to_xyz @ np.asarray(mean_linear)))
 
 
 def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -> list:
