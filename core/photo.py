@@ -278,15 +278,17 @@ def _number(value) -> float | None:
     return number if math.isfinite(number) and number > 0 else None
 
 
-def _text(value) -> str | None:
+def exif_text(value) -> str | None:
+    """An EXIF ASCII value as stripped text (NULs and spaces removed), None when empty."""
     if isinstance(value, bytes):
         value = value.decode("latin-1")
     text = value.strip("\0 ").strip() if isinstance(value, str) else ""
     return text or None
 
 
-def _taken_at(value) -> datetime | None:
-    text = _text(value)
+def exif_time(value) -> datetime | None:
+    """An EXIF date and time (``YYYY:MM:DD HH:MM:SS``, CIPA DC-008) as a naive datetime, or None."""
+    text = exif_text(value)
     try:
         return datetime.strptime(text, "%Y:%m:%d %H:%M:%S") if text else None
     except ValueError:
@@ -300,9 +302,9 @@ def _metadata(base: dict, exif_ifd: dict) -> PhotoMetadata:
         exposure_time_s=_number(exif_ifd.get(TAG_EXPOSURE_TIME)),
         iso=round(iso) if iso else None,
         f_number=_number(exif_ifd.get(TAG_F_NUMBER)),
-        camera_make=_text(base.get(TAG_MAKE)),
-        camera_model=_text(base.get(TAG_MODEL)),
-        taken_at=_taken_at(exif_ifd.get(TAG_DATETIME_ORIGINAL)),
+        camera_make=exif_text(base.get(TAG_MAKE)),
+        camera_model=exif_text(base.get(TAG_MODEL)),
+        taken_at=exif_time(exif_ifd.get(TAG_DATETIME_ORIGINAL)),
     )
 
 
@@ -454,7 +456,7 @@ def _colour_encoding(icc_bytes, exif_ifd: dict, interop: dict, max_code: int, nc
     colour_space = exif_ifd.get(TAG_COLOR_SPACE)
     if colour_space == 1:  # Exif ColorSpace: 1 = sRGB
         return SRGB, "exif", _curve_table(srgb_decode, max_code), None
-    if colour_space == 0xFFFF and _text(interop.get(TAG_INTEROP_INDEX)) == "R03":  # DCF option file
+    if colour_space == 0xFFFF and exif_text(interop.get(TAG_INTEROP_INDEX)) == "R03":  # DCF option file
         adobe = _curve_table(lambda v: gamma_decode(v, ADOBE_RGB_GAMMA), max_code)
         return ADOBE_RGB, "exif", adobe, None
     return SRGB, "assumed", _curve_table(srgb_decode, max_code), None

@@ -36,13 +36,12 @@ from __future__ import annotations
 
 import io
 import struct
-from datetime import datetime
 
 import numpy as np
 
 from .colourspaces import LINEAR_ROMM
 from .estimate import UNCALIBRATED, CameraTerm
-from .photo import MIN_SIDE_PX, Photo, PhotoError, PhotoMetadata, upright
+from .photo import MIN_SIDE_PX, Photo, PhotoError, PhotoMetadata, exif_text, exif_time, upright
 
 RAW_SPACE = LINEAR_ROMM
 RAW_SOURCE = "dng"  # Photo.space_source for raw photos: the colour comes from the file's matrix
@@ -259,31 +258,20 @@ def _value(value) -> float | None:
     return number if np.isfinite(number) and number > 0 else None
 
 
-def _text(value) -> str | None:
-    if isinstance(value, bytes):
-        value = value.decode("latin-1")
-    return value.strip("\0 ").strip() or None if isinstance(value, str) else None
-
-
 def dng_metadata(tags: dict) -> PhotoMetadata:
     """Capture settings from the DNG's Exif tags (in IFD 0 as TIFF/EP allows, or the Exif IFD).
 
     ``white_balance`` is ``"none"``: glowtemp applies no white balance to raw data.
     """
-    taken = _text(tags.get(TAG_DATETIME_ORIGINAL))
-    try:
-        taken_at = datetime.strptime(taken, "%Y:%m:%d %H:%M:%S") if taken else None
-    except ValueError:
-        taken_at = None
     iso = _value(tags.get(TAG_ISO))
     return PhotoMetadata(
         white_balance="none",
         exposure_time_s=_value(tags.get(TAG_EXPOSURE_TIME)),
         iso=round(iso) if iso else None,
         f_number=_value(tags.get(TAG_F_NUMBER)),
-        camera_make=_text(tags.get(TAG_MAKE)),
-        camera_model=_text(tags.get(TAG_MODEL)),
-        taken_at=taken_at,
+        camera_make=exif_text(tags.get(TAG_MAKE)),
+        camera_model=exif_text(tags.get(TAG_MODEL)),
+        taken_at=exif_time(tags.get(TAG_DATETIME_ORIGINAL)),
     )
 
 
