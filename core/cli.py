@@ -67,7 +67,6 @@ def _measure_files(args, paths, region, profile) -> int:
 def _measure_with_map(args, path, region, profile) -> int:
     """One photo's reading and its temperature map, drawn to ``args.map`` (PNG or SVG)."""
     from .photo import PhotoError, load_photo
-    from .raw import uncalibrated_term
     from .reading import measure
     from .region import RegionError
     from .tilemap import temperature_map, with_map
@@ -76,9 +75,8 @@ def _measure_with_map(args, path, region, profile) -> int:
     image_format = "svg" if args.map.lower().endswith(".svg") else "png"
     try:
         photo = load_photo(path)
-        camera = uncalibrated_term(photo)
-        reading = measure(photo, region, camera=camera, photo_name=path, profile=profile)
-        tile_map = temperature_map(photo, reading.region, tiles=args.tiles, camera=camera, profile=profile)
+        reading = measure(photo, region, photo_name=path, profile=profile)
+        tile_map = temperature_map(photo, reading.region, tiles=args.tiles, profile=profile)
         drawn = draw_map(photo, tile_map, unit="F" if args.fahrenheit else "C", image_format=image_format)
         with open(args.map, "wb") as handle:
             handle.write(drawn)

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
-from .estimate import UNCALIBRATED, CameraTerm
+from .estimate import CameraTerm
 from .reading import Reading, finder_red, measure
 from .region import RegionError, find_glow
 
@@ -162,7 +162,7 @@ def temperature_map(
     region=None,
     *,
     tiles: int = DEFAULT_TILES,
-    camera: CameraTerm = UNCALIBRATED,
+    camera: CameraTerm | None = None,
     profile=None,
 ) -> TileMap:
     """Measure every tile of ``region`` (found as :func:`glowtemp.reading.measure` does when None).
