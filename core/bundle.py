@@ -23,10 +23,10 @@ from __future__ import annotations
 import hashlib
 import json
 import zipfile
-from datetime import datetime, timezone
 from pathlib import Path
 
 from .logbook import Logbook, LogbookError
+from .logbook_fields import utc_now
 from .photo_store import KEY_PATTERN
 
 FORMAT_NAME = "glowtemp-firing-bundle"
@@ -60,7 +60,7 @@ def write_bundle(log: Logbook, firing_id: int, destination) -> None:
     manifest = {
         "format": FORMAT_NAME,
         "version": FORMAT_VERSION,
-        "exported_at": datetime.now(timezone.utc).isoformat(timespec="seconds"),
+        "exported_at": utc_now(),
         "firing": {key: firing[key] for key in FIRING_KEYS},
         "readings": [{key: reading[key] for key in READING_KEYS} for reading in readings],
         "photos": photos,

@@ -14,7 +14,8 @@ from __future__ import annotations
 
 import json
 import sqlite3
-from datetime import datetime, timezone
+
+from .logbook_fields import utc_now
 
 VERSION_TABLE = """
 CREATE TABLE IF NOT EXISTS schema_version (
@@ -164,7 +165,7 @@ def migrate(connection: sqlite3.Connection) -> int:
             MIGRATIONS[found + 1](connection)
             connection.execute(
                 "INSERT INTO schema_version (version, applied_at) VALUES (?, ?)",
-                (found + 1, datetime.now(timezone.utc).isoformat(timespec="seconds")),
+                (found + 1, utc_now()),
             )
         except BaseException:
             connection.execute("ROLLBACK")

@@ -15,8 +15,9 @@ import hashlib
 import secrets
 import sqlite3
 import threading
-from datetime import datetime, timezone
 from pathlib import Path
+
+from .logbook_fields import utc_now
 
 SECRET_BYTES = 32  # 256 random bits, from the operating system's generator
 BUSY_TIMEOUT_S = 10.0
@@ -51,7 +52,7 @@ class SessionStore:
     def pair(self, paired_from: str | None = None) -> str:
         """Record a newly paired device; returns its session secret (never stored as such)."""
         secret = secrets.token_urlsafe(SECRET_BYTES)
-        now = datetime.now(timezone.utc).isoformat(timespec="seconds")
+        now = utc_now()
         with self._lock:
             self._db.execute(
                 "INSERT INTO sessions (secret_sha256, paired_at, paired_from) VALUES (?, ?, ?)",
