@@ -11,11 +11,12 @@ import math
 from datetime import datetime, timezone
 
 from .cones import normalise_cone
+from .scales import ABSOLUTE_ZERO_C
 
 FIRING_KINDS = ("bisque", "glaze", "glass", "forging", "heat treatment", "other")
 FIRING_STATUSES = ("open", "closed")
 CONE_STATES = ("standing", "bent")
-LOWEST_C = -273.15
+LOWEST_C = ABSOLUTE_ZERO_C
 HIGHEST_C = 3000.0  # far above any kiln or forge; guards against typing mistakes
 LONGEST_NAME = 200
 LONGEST_NOTE = 5000
