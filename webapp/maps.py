@@ -33,13 +33,12 @@ UNITS = ("C", "F")
 
 
 def _tile_map(photo, region, profile):
-    """The map of ``region`` with the camera term the reading itself uses without a profile."""
-    from glowtemp.raw import uncalibrated_term
+    """The map of ``region``, each tile measured as :func:`glowtemp.reading.measure` would."""
     from glowtemp.region import RegionError
     from glowtemp.tilemap import temperature_map
 
     try:
-        return temperature_map(photo, region, camera=uncalibrated_term(photo), profile=profile)
+        return temperature_map(photo, region, profile=profile)
     except RegionError as error:
         raise ApiError(str(error)) from None
 
