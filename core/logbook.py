@@ -31,10 +31,6 @@ PHOTOS_FOLDER = "photos"
 BUSY_TIMEOUT_S = 10.0
 ORPHAN_GRACE_S = 3600.0  # a photo no row names is swept only when older than this
 
-FIRING_COLUMNS = (
-    "id", "name", "kiln", "kind", "target_c", "target_cone",
-    "started_at", "notes", "status", "closed_at", "created_at",
-)  # fmt: skip
 TRUSTED_FIELDS = ("reference_c", "cone", "cone_state", "note", "taken_at", "firing_id")
 FIRING_FIELDS = ("name", "kiln", "kind", "target_c", "target_cone", "started_at", "notes", "status")
 
