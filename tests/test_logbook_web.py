@@ -227,3 +227,19 @@ def test_climb_rates_are_shown_with_their_band_and_unit():
     assert climb(100.0, "f", 40.0) == "+180 ± 80 °F/h"
     assert climb(None, "c", None) == "–"
     assert climb(55.0, "c", None) == "+55 °C/h (band unknown)"
+
+
+def test_a_reading_with_only_a_range_shows_the_range(web_client, firing_id):
+    # Auto white balance (EXIF WhiteBalance 0) widens the band until only a range is honest:
+    # the firing page must show that range, as the measuring page does, not "no estimate".
+    from glowtemp.synthetic import encode_jpeg, render_photo
+    from glowtemp.synthetic_camera import CAMERAS
+
+    rendered = render_photo(1253.15, camera=CAMERAS["Nikon 5100 (NPL)"], size=(160, 120), white_balance="auto")
+    answer = upload(web_client, firing_id, encode_jpeg(rendered))
+    assert answer.status_code == 201
+    result = answer.get_json()
+    assert result["status"] == "wide"
+    low, high = result["interval_95_c"]
+    page = web_client.get(f"/firings/{firing_id}").get_data(as_text=True)
+    assert f"somewhere in {low}–{high} °C" in page

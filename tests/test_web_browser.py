@@ -112,7 +112,9 @@ def test_dragging_the_region_measures_again(live_server, browser_page, artifacts
         page.mouse.move(overlay["x"] + overlay["width"] * 0.25, centre_y, steps=8)
         page.mouse.up()
     moved = answer.value.json()
-    page.wait_for_function("document.getElementById('region-status').textContent.includes('again')")
+    # an arrow function, not a bare expression: Playwright evaluates expressions with eval,
+    # which the page's Content-Security-Policy refuses whenever the first check is false
+    page.wait_for_function("() => document.getElementById('region-status').textContent.includes('again')")
     assert moved["temperature_c"] < first["temperature_c"]
     assert shown_value(page) == f"{moved['temperature_c']}°C"
     page.screenshot(path=artifacts / "web-03-region-moved.png", full_page=True)
@@ -271,7 +273,9 @@ def test_a_raw_photo_is_measured_and_shown_in_its_glow_colour(live_server, brows
     assert reading["colour_space"] == "Linear ROMM RGB (camera raw)" and reading["status"] == "ok"
     assert shown_value(page) == f"{reading['temperature_c']}°C"
     # Chromium cannot decode a DNG, so the page falls back to the server's preview.
-    page.wait_for_function("document.getElementById('photo').src.endsWith('/preview') && document.getElementById('photo').complete")
+    page.wait_for_function(
+        "() => document.getElementById('photo').src.endsWith('/preview') && document.getElementById('photo').complete"
+    )
     shown = page.evaluate("""() => {
       const img = document.getElementById('photo');
       const canvas = document.createElement('canvas');
