@@ -23,7 +23,6 @@ SECOND_RADIATION_C2 = PLANCK_H * SPEED_OF_LIGHT_C / BOLTZMANN_K  # m K, CODATA 2
 WIEN_B = 2.897771955e-3  # m K, CODATA 2018 Wien wavelength displacement law constant
 STEFAN_BOLTZMANN_SIGMA = 2 * np.pi**5 * BOLTZMANN_K**4 / (15 * PLANCK_H**3 * SPEED_OF_LIGHT_C**2)
 
-ABSOLUTE_ZERO_C = -273.15
 
 
 def spectral_radiance(wavelength_m, temperature_k, c2=SECOND_RADIATION_C2):
@@ -63,13 +62,3 @@ def radiant_exitance(temperature_k, emissivity=1.0):
     56.7
     """
     return emissivity * STEFAN_BOLTZMANN_SIGMA * np.asarray(temperature_k, dtype=float) ** 4
-
-
-def celsius_to_kelvin(temperature_c):
-    """Degrees Celsius to kelvin (SI Brochure, 9th ed.)."""
-    return np.asarray(temperature_c, dtype=float) - ABSOLUTE_ZERO_C
-
-
-def kelvin_to_celsius(temperature_k):
-    """Kelvin to degrees Celsius (SI Brochure, 9th ed.)."""
-    return np.asarray(temperature_k, dtype=float) + ABSOLUTE_ZERO_C

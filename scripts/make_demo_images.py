@@ -18,7 +18,7 @@ from pathlib import Path
 import colour
 
 from glowtemp.colourspaces import DISPLAY_P3, SRGB
-from glowtemp.radiation import celsius_to_kelvin
+from glowtemp.scales import celsius_to_kelvin
 from glowtemp.synthetic import encode_jpeg, render_light_photo, render_photo
 from glowtemp.synthetic_camera import CAMERAS
 from glowtemp.synthetic_scenes import BAR_END
