@@ -140,6 +140,17 @@ def colour_profile_problem(problem: str) -> Advice:
     )
 
 
+def raw_calibration_unstated() -> Advice:
+    return Advice(
+        "raw-calibration-unstated",
+        "This raw file's colour matrix does not say under which light it was measured, so "
+        "glowtemp took it as daylight (D65); a daylight matrix reads glow a little greener, and "
+        "so hotter, than one measured under lamp light.",
+        "Make a camera profile from raw photos of this camera with trusted readings "
+        "(thermocouple or witness cones).",
+    )
+
+
 def outside_profile_span(span_c) -> Advice:
     return Advice(
         "outside-profile-span",

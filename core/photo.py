@@ -105,7 +105,8 @@ class Photo:
     ``codes`` is a read-only (H, W, 3) uint8 or uint16 array; ``decode_table`` is float32 of
     shape (3, max_code + 1); ``space_source`` is ``"icc"``, ``"cicp"`` (HEIF colour information),
     ``"exif"``, ``"dng"`` (a raw file's colour matrix) or ``"assumed"``; ``profile_problem``
-    says why an embedded profile was not used (then sRGB is assumed).
+    says why an embedded profile was not used (then sRGB is assumed); ``matrix_illuminant_unstated``
+    marks a raw file whose colour matrix names no calibration illuminant (see :mod:`glowtemp.raw`).
     """
 
     codes: np.ndarray
@@ -116,6 +117,7 @@ class Photo:
     metadata: PhotoMetadata
     format: str
     profile_problem: str | None = None
+    matrix_illuminant_unstated: bool = False
 
     @property
     def width(self) -> int:
@@ -126,7 +128,11 @@ class Photo:
         return self.codes.shape[0]
 
     def linear(self, pixels: np.ndarray) -> np.ndarray:
-        """Linear light in [0, 1] of integer ``pixels`` of shape (..., 3), float32, same shape."""
+        """Linear light of integer ``pixels`` of shape (..., 3), float32, same shape.
+
+        In [0, 1], except that a raw photo keeps sensor noise about black, so its dark pixels
+        may dip a little below zero (see :func:`glowtemp.raw.encode_linear`).
+        """
         pixels = np.asarray(pixels)
         if pixels.shape[-1:] != (3,) or not np.issubdtype(pixels.dtype, np.integer):
             raise ValueError("pixels must be integer codes with 3 channels in the last axis")

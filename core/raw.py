@@ -9,14 +9,30 @@ decode here is the plainest that keeps that:
    blue), so the photo is read at half the sensor's width and height and no colour is
    interpolated across edges; a tile with any photosite near its white level is clipped;
 3. linear camera RGB to CIE XYZ with the inverse of the DNG colour matrix (XYZ to camera),
-   *without* white balance: the XYZ of the light itself, not adapted to any white;
+   *without* white balance: the XYZ of the light itself, not adapted to any white (the file's
+   AsShotNeutral is not used: it is the camera's white balance setting, which need not be the
+   light of the scene; the real chart file in the tests carries a daylight white while its
+   chart was lit near 2800 K);
 4. XYZ to linear RGB with the ROMM RGB primaries (ISO 22028-2), whose gamut holds every
-   blackbody colour from 700 K up, stored as 16-bit linear codes.
+   blackbody colour from 700 K up, stored as 16-bit linear codes above a pedestal, so that
+   sensor noise about black keeps its sign: clipping it at zero would lift the mean of a dim
+   channel (on the real chart file it lifted the blue of the orange patch by 16 %).
 
 Which colour matrix: DNG files may carry two, each measured under a calibration illuminant,
 and the DNG specification interpolates between them by the scene's colour temperature
 (inverse CCT), holding the end values outside their range. Glow (below 2000 K) is warmer than
 any calibration illuminant, so that rule gives the matrix of the warmer illuminant.
+
+A matrix without its CalibrationIlluminant tag: the tag's default is 0, "unknown" (DNG 1.4,
+chapter 4), and a lone matrix is used for every scene whatever its illuminant (chapter 6), so
+its colours are decoded as they are. glowtemp takes the unknown illuminant to be daylight
+(D65, 6504 K), as single-matrix DNG writers usually calibrate (the real chart file's matrix is,
+but for its first digit, the EOS 550D entry of dcraw's camera table, a D65 matrix); that choice
+only decides which of two matrices is the warmer. Either way the photo is marked
+(``Photo.matrix_illuminant_unstated``) and the reading warns: a daylight matrix fits glow less
+well than an illuminant-A one (through colour-science's two NPL-measured cameras, the D65
+matrix instead of the A matrix raises glow's green/red by about 0.012 at 700 °C and 0.002 at
+1300 °C, inside the raw camera term's offset spread below).
 
 LibRaw does not hand out a DNG's own ColorMatrix tags (rawpy's ``color_matrix`` is already
 white-balance normalised, for sRGB output), so the tags are read with tifffile.
@@ -29,6 +45,7 @@ References
   the interpolation of two matrices by inverse correlated colour temperature).
 - ISO 22028-2:2013, Reference output medium metric RGB (ROMM RGB): primaries and D50 white.
 - CIPA DC-008-2019 (Exif 2.32), LightSource codes used by CalibrationIlluminant.
+- D. Coffin, dcraw.c, ``adobe_coeff`` camera table (XYZ to camera matrices for CIE D65).
 - ISO 12234-2:2001 (TIFF/EP): CFARepeatPatternDim and CFAPattern.
 """
 
@@ -46,6 +63,7 @@ from .photo import MIN_SIDE_PX, Photo, PhotoError, PhotoMetadata, exif_text, exi
 RAW_SPACE = LINEAR_ROMM
 RAW_SOURCE = "dng"  # Photo.space_source for raw photos: the colour comes from the file's matrix
 MAX_CODE = 65535
+PEDESTAL = 4096  # the code of linear zero: values down to about -7 % of full scale keep their sign
 BAYER_CHANNEL = {0: 0, 1: 1, 3: 1, 2: 2}  # LibRaw colour index (3: second green) to R, G, B
 SATURATED = 250 / 255  # a photosite at or above this share of its range is clipped (as sampling)
 
@@ -58,6 +76,7 @@ ILLUMINANT_CCT_K = {
     17: 2856.0, 18: 4874.0, 19: 6774.0, 20: 5503.0, 21: 6504.0, 22: 7504.0, 23: 5003.0,
     24: 3200.0,
 }
+UNSTATED_ILLUMINANT_CCT_K = 6504.0  # an unknown (0) or missing CalibrationIlluminant: taken as D65
 
 TAG_COLOR_MATRIX = (50721, 50722)
 TAG_CAMERA_CALIBRATION = (50723, 50724)
@@ -130,12 +149,22 @@ def read_dng_header(data: bytes):
     return tags, size
 
 
+def illuminant_unstated(tags: dict) -> bool:
+    """Whether a ColorMatrix of the DNG has no CalibrationIlluminant, or names it 0 (unknown)."""
+    return any(
+        TAG_COLOR_MATRIX[index] in tags
+        and int(np.ravel(tags.get(TAG_CALIBRATION_ILLUMINANT[index], 0))[0]) == 0
+        for index in (0, 1)
+    )
+
+
 def xyz_to_camera(tags: dict) -> np.ndarray:
     """The DNG's XYZ to camera matrix for glow: AB x CC x CM of the warmer calibration illuminant.
 
     DNG 1.4 chapter 6: ``XYZtoCamera = AB * CC * CM``; with two matrices the one whose
     CalibrationIlluminant has the lower correlated colour temperature (the interpolation's end
-    value for a scene warmer than both illuminants).
+    value for a scene warmer than both illuminants). An unstated illuminant counts as D65
+    (see the module notes); a lone matrix is used whatever its illuminant.
     """
     candidates = []
     for index in (0, 1):
@@ -151,7 +180,7 @@ def xyz_to_camera(tags: dict) -> np.ndarray:
         calibration = np.eye(3)
         if TAG_CAMERA_CALIBRATION[index] in tags:
             calibration = _rational_values(tags[TAG_CAMERA_CALIBRATION[index]]).reshape(3, 3)
-        cct = ILLUMINANT_CCT_K.get(illuminant, 5000.0)  # unknown: a mid daylight, from memory
+        cct = ILLUMINANT_CCT_K.get(illuminant, UNSTATED_ILLUMINANT_CCT_K)
         candidates.append((cct, calibration @ values.reshape(3, 3)))
     if not candidates:
         raise RawError("The DNG has no ColorMatrix tag, so its colours cannot be known.")
@@ -202,21 +231,33 @@ def camera_to_raw_space(xyz_to_cam: np.ndarray) -> np.ndarray:
 
 
 def encode_linear(rgb: np.ndarray, clipped: np.ndarray, to_space: np.ndarray) -> np.ndarray:
-    """Linear camera RGB to 16-bit linear codes in :data:`RAW_SPACE`; clipped tiles at full scale.
+    """Linear camera RGB to 16-bit codes in :data:`RAW_SPACE`; clipped tiles at full scale.
 
-    Scaled so no unclipped camera value in [0, 1] can reach full scale (the largest row sum of
-    the matrix's positive part maps to it), so full scale means clipped and nothing else.
+    Linear zero is code :data:`PEDESTAL`, so values a little below black (sensor noise, which
+    averages out) keep their sign instead of being clipped to zero; :func:`decode_table`
+    undoes it. Scaled so no unclipped camera value in [0, 1] can reach full scale (the largest
+    row sum of the matrix's positive part maps below it), so full scale means clipped only.
     """
     headroom = float(np.clip(to_space, 0.0, None).sum(axis=1).max())
     out = np.empty(rgb.shape, dtype=np.uint16)
-    scale = np.float32((MAX_CODE - 1) * SATURATED / headroom)
+    scale = np.float32(((MAX_CODE - 1) * SATURATED - PEDESTAL) / headroom)
     matrix = (to_space * scale).astype(np.float32).T
     rows = max(1, 2**18 // max(rgb.shape[1], 1))
     for top in range(0, rgb.shape[0], rows):
-        linear = rgb[top : top + rows] @ matrix
+        linear = rgb[top : top + rows] @ matrix + np.float32(PEDESTAL)
         out[top : top + rows] = np.clip(np.rint(linear), 0, MAX_CODE - 1).astype(np.uint16)
     out[clipped] = MAX_CODE
     return out
+
+
+def decode_table() -> np.ndarray:
+    """Linear light of every code, (3, MAX_CODE + 1) float32: 0 at :data:`PEDESTAL`, 1 at full scale.
+
+    >>> table = decode_table(); float(table[0, PEDESTAL]), float(table[0, MAX_CODE]), bool(table[0, 0] < 0)
+    (0.0, 1.0, True)
+    """
+    ramp = (np.arange(MAX_CODE + 1, dtype=np.float32) - PEDESTAL) / np.float32(MAX_CODE - PEDESTAL)
+    return np.repeat(ramp[None, :], 3, axis=0)
 
 
 def decode_dng(data: bytes, tags: dict) -> np.ndarray:
@@ -290,15 +331,15 @@ def load_dng(data: bytes, max_pixels: int) -> Photo:
     if orientation != 1:
         codes = np.ascontiguousarray(upright(codes, orientation))
     codes.flags.writeable = False
-    table = np.repeat(np.linspace(0.0, 1.0, MAX_CODE + 1, dtype=np.float32)[None, :], 3, axis=0)
     return Photo(
         codes=codes,
         max_code=MAX_CODE,
         space=RAW_SPACE,
         space_source=RAW_SOURCE,
-        decode_table=table,
+        decode_table=decode_table(),
         metadata=dng_metadata(tags),
         format="DNG",
+        matrix_illuminant_unstated=illuminant_unstated(tags),
     )
 
 

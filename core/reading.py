@@ -140,6 +140,8 @@ def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -
     found = []
     if photo.profile_problem:
         found.append(advice.colour_profile_problem(photo.profile_problem))
+    if photo.matrix_illuminant_unstated:
+        found.append(advice.raw_calibration_unstated())
     if photo.metadata.white_balance == "auto":
         found.append(advice.auto_white_balance())
     if stats.pixels_total and stats.pixels_clipped / stats.pixels_total > advice.CLIPPED_SHARE_WARN:
@@ -175,7 +177,7 @@ def finder_red(photo) -> np.ndarray:
     red = photo.codes[:, :, 0]
     if photo.space is not RAW_SPACE:
         return red
-    return np.sqrt(red / np.float32(photo.max_code)) * np.float32(255)
+    return np.sqrt(np.clip(photo.decode_table[0][red], 0.0, None)) * np.float32(255)
 
 
 def _profile_camera(profile, photo):

@@ -16,6 +16,9 @@ from glowtemp.raw import (
     RAW_SPACE,
     RAW_UNCALIBRATED,
     RawError,
+    decode_table,
+    encode_linear,
+    illuminant_unstated,
     read_dng_header,
     superpixel,
     uncalibrated_term,
@@ -186,6 +189,42 @@ def test_the_warmer_calibration_illuminant_s_matrix_is_used_whatever_the_order()
     swapped[50778], swapped[50779] = tags[50779], tags[50778]
     assert np.allclose(xyz_to_camera(swapped), matrix_a, atol=1e-5)
     assert np.allclose(xyz_to_camera({50721: tags[50722], 50778: 21}), dict(rendered.xyz_to_camera)[21], atol=1e-5)
+
+
+def test_an_unstated_calibration_illuminant_counts_as_d65():
+    # DNG 1.4: CalibrationIlluminant defaults to 0, unknown; glowtemp takes it as D65 (6504 K).
+    # Against illuminant A (EXIF LightSource 17, 2856 K) the A matrix is the warmer; against D75
+    # (22, 7504 K) the unstated one is.
+    rendered = capture(1000, CAMERAS["Nikon 5100 (NPL)"])
+    tags, _ = read_dng_header(encode_dng(rendered))
+    matrix_a, matrix_d65 = (dict(rendered.xyz_to_camera)[code] for code in (17, 21))
+    assert not illuminant_unstated(tags)
+    unstated_and_a = {50721: tags[50722], 50722: tags[50721], 50779: 17}
+    assert illuminant_unstated(unstated_and_a)
+    assert np.allclose(xyz_to_camera(unstated_and_a), matrix_a, atol=1e-5)
+    unstated_and_d75 = {50721: tags[50722], 50722: tags[50721], 50778: 0, 50779: 22}
+    assert illuminant_unstated(unstated_and_d75)
+    assert np.allclose(xyz_to_camera(unstated_and_d75), matrix_d65, atol=1e-5)
+
+
+def test_a_rendered_dng_that_names_its_illuminants_gets_no_calibration_warning():
+    photo = load_photo(encode_dng(capture(1000)))
+    assert not photo.matrix_illuminant_unstated
+    assert "raw-calibration-unstated" not in [w.code for w in measure(photo).warnings]
+
+
+def test_noise_about_black_keeps_its_sign_so_dim_means_are_not_lifted():
+    # Zero-mean noise (sigma 0.001 of full scale) averages to zero: the mean of 480 000 values
+    # has a standard error of 1.4e-6. Clipped at zero, as unsigned codes without a pedestal
+    # would store it, the mean is lifted to sigma / sqrt(2 pi) = 4.0e-4 (half-normal mean).
+    rng = np.random.default_rng(7)
+    rgb = (0.001 * rng.standard_normal((400, 400, 3))).astype(np.float32)
+    codes = encode_linear(rgb, np.zeros((400, 400), dtype=bool), np.eye(3))
+    decoded = decode_table()[np.arange(3), codes]
+    gain = float(np.polyfit(rgb.ravel(), decoded.ravel(), 1)[0])  # decoded units per camera unit
+    assert np.all(np.abs(decoded.mean(axis=(0, 1)) / gain) < 1e-5)
+    assert float(np.clip(rgb, 0, None).mean()) == pytest.approx(0.001 / np.sqrt(2 * np.pi), rel=0.02)
+    assert np.all(codes < 250 / 255 * 65535)  # nothing unclipped reaches the clipped range
 
 
 def test_a_dng_without_colour_matrix_is_refused_in_plain_words():
