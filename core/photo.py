@@ -195,10 +195,14 @@ def _read_bytes(source) -> bytes:
 
 @lru_cache(maxsize=1)
 def _heif_opener() -> None:
-    """Teach Pillow HEIF (pillow-heif, libheif); loaded only when a file looks like one."""
+    """Teach Pillow HEIF (pillow-heif, libheif); loaded only when a file looks like one.
+
+    Only the primary image is the photo: thumbnails, depth maps and auxiliary images (an HDR
+    gain map, alpha or depth planes, ISO/IEC 23008-12 section 6.6) are never listed or decoded.
+    """
     import pillow_heif
 
-    pillow_heif.register_heif_opener()
+    pillow_heif.register_heif_opener(thumbnails=False, depth_images=False, aux_images=False)
 
 
 def _open(data: bytes) -> Image.Image:
