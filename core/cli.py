@@ -171,7 +171,7 @@ def describe(result: dict) -> str:
         low95, high95 = result["interval_95_c"]
         text = (
             f"{name}: {result['temperature_c']} °C, likely {low68}-{high68} °C (68 %), "
-            f"{low95}-{high95} °C (95 %), {result['glow_name']}"
+            f"{low95}-{high95} °C (95 %), heat colour {result['glow_name']} (names are loose)"
         )
     elif result["status"] == "wide":
         low95, high95 = result["interval_95_c"]

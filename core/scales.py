@@ -1,8 +1,10 @@
 """Temperatures in the trade's terms: units, rounding to what the band supports, heat colours.
 
-The heat-colour names are the smith's and potter's traditional words for glow seen in a dim
-shop. They are approximate, depend on the light and the eye, and are given for orientation
-only (common practice; the boundaries are from memory and vary between sources).
+The heat-colour names are the traditional words of smiths, potters and heat-treaters for glow
+seen in a dim shop, here as H. M. Howe published them (1900), printed in C. R. Darling,
+Pyrometry, 2nd ed. (1920), chapter VI (public domain). Names are loose: they depend on the
+light and the eye, and other published tables put the same names 100-150 °C apart, so they are
+for orientation only, and the result says so beside the name.
 """
 
 from __future__ import annotations
@@ -11,20 +13,21 @@ import math
 
 ABSOLUTE_ZERO_C = -273.15
 
-# (lowest °C, name): common practice, approximate, from memory.
-HEAT_COLOURS = (
-    (-math.inf, "no visible glow"),
-    (480.0, "faint red"),
-    (550.0, "dull red"),
-    (650.0, "dark cherry red"),
-    (750.0, "cherry red"),
-    (850.0, "bright red-orange"),
-    (900.0, "orange"),
-    (1000.0, "yellow-orange"),
-    (1050.0, "yellow"),
-    (1150.0, "pale yellow"),
-    (1250.0, "near white"),
+# (from °C, to °C, name) as H. M. Howe (1900) gives them, in C. R. Darling, Pyrometry, 2nd ed.
+# (1920), ch. VI. A single temperature names the heat from there up to the next entry; a range
+# names its own span, and the gap after it up to the next entry is ours, named by both.
+HOWE_HEAT_COLOURS = (
+    (470.0, 470.0, "lowest red visible in the dark"),
+    (475.0, 475.0, "lowest red visible in daylight"),
+    (550.0, 625.0, "dull red"),
+    (700.0, 700.0, "full cherry red"),
+    (850.0, 850.0, "light red"),
+    (950.0, 1000.0, "full yellow"),
+    (1050.0, 1050.0, "light yellow"),
+    (1150.0, 1150.0, "white"),
 )
+BELOW_THE_TABLE = "no visible glow"  # ours: below the table's lowest visible red
+NAMES_ARE_LOOSE = "Heat-colour names are loose: published tables disagree by 100–150\u00a0°C."
 
 ROUNDING_STEPS_C = (1, 2, 5, 10, 20, 50, 100)
 
@@ -54,15 +57,19 @@ def fahrenheit_to_celsius(temperature_f: float) -> float:
 
 
 def heat_colour_name(temperature_c: float) -> str:
-    """Traditional heat-colour name of glow at a temperature (common practice, approximate).
+    """Traditional heat-colour name of glow at a temperature, after Howe's table (see above).
 
-    >>> heat_colour_name(800.0)
-    'cherry red'
+    >>> heat_colour_name(800.0), heat_colour_name(660.0)
+    ('full cherry red', 'between dull red and full cherry red')
     """
-    name = HEAT_COLOURS[0][1]
-    for lowest_c, colour_name in HEAT_COLOURS:
-        if temperature_c >= lowest_c:
-            name = colour_name
+    name = BELOW_THE_TABLE
+    for index, (from_c, to_c, table_name) in enumerate(HOWE_HEAT_COLOURS):
+        if temperature_c < from_c:
+            break
+        name = table_name
+        following = HOWE_HEAT_COLOURS[index + 1:index + 2]
+        if to_c > from_c and temperature_c > to_c and following:
+            name = f"between {table_name} and {following[0][2]}"
     return name
 
 

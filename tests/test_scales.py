@@ -18,20 +18,46 @@ def test_kelvin():
     assert scales.celsius_to_kelvin(1000.0) == pytest.approx(1273.15)
 
 
-@pytest.mark.parametrize(
-    "celsius, expected_word",
-    # Heat colours, common practice, approximate, from memory (DESIGN.md section 4): used as a
-    # loose check of the names only.
-    [(600.0, "dull red"), (800.0, "cherry"), (950.0, "orange"), (1100.0, "yellow"), (1300.0, "white")],
-)
-def test_heat_colour_names_loosely_follow_common_practice(celsius, expected_word):
-    assert expected_word in scales.heat_colour_name(celsius)
+# H. M. Howe (1900), as printed in C. R. Darling, Pyrometry, 2nd ed. (1920), chapter VI (public
+# domain): the temperatures (°C) at which each heat colour is seen, and the name given there.
+HOWE_1900 = [
+    (470, "lowest red visible in the dark"),
+    (475, "lowest red visible in daylight"),
+    (550, "dull red"), (590, "dull red"), (625, "dull red"),  # 550-625 °C
+    (700, "full cherry red"),
+    (850, "light red"),
+    (950, "full yellow"), (975, "full yellow"), (1000, "full yellow"),  # 950-1000 °C
+    (1050, "light yellow"),
+    (1150, "white"),
+]
 
 
-def test_names_run_from_red_to_white():
-    names = [scales.heat_colour_name(t) for t in range(400, 1400, 10)]
-    assert names[0] == "no visible glow" and names[-1] == "near white"
-    assert len(set(names)) == len(scales.HEAT_COLOURS)
+@pytest.mark.parametrize("celsius, published_name", HOWE_1900)
+def test_heat_colour_names_follow_howe_s_published_table(celsius, published_name):
+    assert scales.heat_colour_name(celsius) == published_name
+
+
+def test_no_name_below_the_table_s_lowest_visible_red():
+    # Howe: the lowest red visible in the dark is at 470 °C; below it no glow is seen.
+    assert scales.heat_colour_name(469.0) == "no visible glow"
+    assert scales.heat_colour_name(20.0) == "no visible glow"
+
+
+@pytest.mark.parametrize("celsius, neighbours", [(660, ("dull red", "full cherry red")),
+                                                 (1020, ("full yellow", "light yellow"))])
+def test_the_table_s_gaps_are_named_by_their_published_neighbours(celsius, neighbours):
+    # Howe gives no name between dull red (to 625 °C) and full cherry (700 °C), nor between full
+    # yellow (to 1000 °C) and light yellow (1050 °C): our wording there names both neighbours.
+    name = scales.heat_colour_name(celsius)
+    assert all(neighbour in name for neighbour in neighbours) and name not in dict(HOWE_1900).values()
+
+
+def test_names_run_from_red_to_white_in_the_table_s_order():
+    names = [scales.heat_colour_name(t) for t in range(400, 1400)]
+    distinct = list(dict.fromkeys(names))
+    published = list(dict.fromkeys(name for _, name in HOWE_1900))
+    assert [name for name in distinct if name in published] == published
+    assert distinct[0] == "no visible glow" and distinct[-1] == "white"
 
 
 @pytest.mark.parametrize("half_width, step", [(0.5, 1), (4.0, 2), (12.0, 5), (25.0, 10), (45.0, 20), (150.0, 50)])

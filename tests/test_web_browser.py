@@ -62,6 +62,8 @@ def test_upload_shows_the_reading_band_scale_and_swatches(live_server, browser_p
     low95, high95 = reading["interval_95_c"]
     assert f"{low68} – {high68} °C" in bands and f"{low95} – {high95} °C" in bands
     assert reading["glow_name"] in page.inner_text("#glow-name")
+    # Beside the name: heat-colour names are loose (published tables differ by 100-150 °C).
+    assert page.locator("#glow-name-note").is_visible() and "loose" in page.inner_text("#glow-name-note")
     # The band sits on the scale where its temperatures are.
     scale = page.locator("#scale").bounding_box()
     band = page.locator("#scale .band68").bounding_box()

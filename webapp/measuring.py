@@ -2,9 +2,11 @@
 
 from flask import Blueprint, render_template
 
+from glowtemp.scales import NAMES_ARE_LOOSE
+
 blueprint = Blueprint("measuring", __name__)
 
 
 @blueprint.get("/")
 def index():
-    return render_template("measure.html")
+    return render_template("measure.html", names_are_loose=NAMES_ARE_LOOSE)

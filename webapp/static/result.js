@@ -79,6 +79,7 @@ function showGlowName(reading) {
   const line = $("glow-name");
   line.textContent = reading.glow_name ? `Heat colour: ${reading.glow_name}` : "";
   line.hidden = !reading.glow_name;
+  $("glow-name-note").hidden = !reading.glow_name;
 }
 
 function showSwatches(reading, unit) {
