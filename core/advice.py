@@ -11,7 +11,10 @@ CLIPPED_SHARE_WARN = 0.02  # warn when more than 2 % of the region is blown out
 FEW_PIXELS = 200  # fewer usable pixels than this is a thin sample
 BACKGROUND_LEVEL_WARN = 0.01  # surroundings' weakest channel above 1 % of the glow's red
 # (rendered daylight at a tenth of the glow's luminance reached 1.3 % and shifted green/red by +0.01)
-BELOW_GLOW_C = 500.0  # visible glow starts near 500 °C (Draper point ~525 °C, handbook value)
+# Visible glow starts at the Draper point: J. W. Draper, Phil. Mag. 30 (1847) 345, found every
+# solid begins to glow at 977 °F, which is the figure used here (525 °C). Howe's heat-colour
+# table (glowtemp.scales) sees a first red at 470 °C, but only with eyes adapted to the dark.
+BELOW_GLOW_C = 525.0
 
 
 @dataclass(frozen=True)

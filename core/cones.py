@@ -13,7 +13,10 @@ import csv
 import io
 from pathlib import Path
 
-CONE_SIGMA_C = 15.0  # 1-sigma of a cone reference: heating-rate shift plus reading the bend
+# 1-sigma of a cone reference: the bend's shift with heating rate plus reading how far it bent.
+# From memory, not measured (cone charts list a cone's bend some 20-30 °C apart for slow and
+# fast final rates; common practice reads the bend by eye).
+CONE_SIGMA_C = 15.0
 USER_TABLE_NAME = "cones.csv"
 
 

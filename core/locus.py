@@ -1,11 +1,13 @@
 """The colour of a blackbody: CIE 1931 XYZ, chromaticity and linear RGB from 700 K to 4000 K.
 
 Common correlated-colour-temperature routines start at 1000 K or higher, but glow starts near
-800 K (the Draper point), so glowtemp integrates its own table from Planck's law and the CIE
+800 K (the Draper point, 977 °F or 798 K: J. W. Draper, Phil. Mag. 30 (1847) 345), so glowtemp integrates its own table from Planck's law and the CIE
 1931 2-degree colour-matching functions (shipped in ``data/``, exported from colour-science by
 ``scripts/export_tables.py``). The integrated table is shipped too, so no start pays for it.
 
-Below about 1500 K a blackbody lies outside the sRGB gamut: its linear sRGB blue is negative.
+Below about 1900 K a blackbody lies outside the sRGB gamut: its linear sRGB blue is negative
+(colour-science, CIE 1931 2-degree integration with the IEC 61966-2-1 matrix, crosses zero at
+1900 K), and below about 964 K its green too.
 A camera clips such components to zero, so :func:`clipped_linear_rgb` returns what an ideal
 colorimetric camera would record in a given RGB space, not the unclipped colour.
 

@@ -32,7 +32,8 @@ def test_recovers_reference_blackbody_colour(temperature_k):
 
 
 def test_emissivity_and_exposure_cancel_in_the_ratio():
-    # Greybody emission: a constant emissivity scales all channels alike (DESIGN.md, physics).
+    # Planck's law for a grey body: spectral radiance eps * B(lambda, T) with eps independent of
+    # wavelength, so emissivity (and exposure) scale all channels alike and cancel in the ratios.
     rgb = reference_linear_rgb(1300.0)
     bright = estimate_temperature(rgb / rgb[0] * 0.8, [0.001] * 3)
     dim = estimate_temperature(rgb / rgb[0] * 0.8 * 0.35, [0.001 * 0.35] * 3)

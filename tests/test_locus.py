@@ -60,18 +60,31 @@ def test_table_spans_700_to_4000_kelvin_by_one_kelvin():
     np.testing.assert_allclose(np.diff(grid), 1.0)
 
 
-def test_glow_is_outside_srgb_gamut_below_1500_kelvin():
-    # DESIGN physics note (from memory, checked here against the CIE matrices of IEC 61966-2-1):
-    # linear sRGB blue of a blackbody is negative below about 1500 K; green/red is about 0.01 at
-    # 1000 K and 0.16 at 1600 K.
+def colour_science_linear_srgb(temperature_k: float) -> np.ndarray:
+    """Linear sRGB of a blackbody by colour-science: CIE 1931 2-degree integration of Planck's
+    law, then the IEC 61966-2-1 matrix (no chromatic adaptation: the light itself)."""
+    cmfs = colour.MSDS_CMFS["CIE 1931 2 Degree Standard Observer"]
+    xyz = colour.sd_to_XYZ(colour.sd_blackbody(temperature_k, cmfs.shape), cmfs, method="Integration")
+    return colour.XYZ_to_RGB(xyz, colour.RGB_COLOURSPACES["sRGB"], chromatic_adaptation_transform=None,
+                             apply_cctf_encoding=False)
+
+
+def test_glow_is_outside_srgb_gamut_below_about_1900_kelvin():
+    # colour-science puts a blackbody's linear sRGB blue below zero up to 1900 K (its sign
+    # changes between 1895 K and 1905 K); the table must cross zero at the same place, and its
+    # green/red must match colour-science's where blue is clipped.
+    assert colour_science_linear_srgb(1895.0)[2] < 0 < colour_science_linear_srgb(1905.0)[2]
     table = locus.blackbody_table()
     unclipped = table.xyz @ colourspaces.SRGB.xyz_to_rgb.T
+    crossing_k = table.temperature_k[np.argmax(unclipped[:, 2] > 0)]
+    assert 1895.0 <= crossing_k <= 1905.0
     at = lambda t: int(t - locus.TABLE_MIN_K)  # noqa: E731
-    assert unclipped[at(1400.0), 2] < 0
     ratios = locus.locus_ratios(colourspaces.SRGB)
-    assert ratios[at(1000.0), 0] == pytest.approx(0.01, abs=0.003)
-    assert ratios[at(1600.0), 0] == pytest.approx(0.16, abs=0.01)
-    assert ratios[at(1400.0), 1] == 0.0  # clipped, as a camera records it
+    for temperature_k in (1000.0, 1600.0, 1850.0):
+        reference = colour_science_linear_srgb(temperature_k)
+        assert ratios[at(temperature_k), 0] == pytest.approx(reference[1] / reference[0], abs=2e-4)
+        assert ratios[at(temperature_k), 1] == 0.0  # blue clipped, as a camera records it
+    assert ratios[at(1950.0), 1] > 0.0
 
 
 def test_display_p3_keeps_green_to_lower_temperatures_than_srgb():

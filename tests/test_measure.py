@@ -59,7 +59,8 @@ def test_found_region_sits_on_the_spy_hole():
 
 
 def test_overexposed_glow_warns_to_lower_the_exposure():
-    # DESIGN.md physics note: a blown-out red channel makes the estimate far too hot.
+    # A saturated sensor records less than the light (EMVA 1288, saturation capacity): a
+    # blown-out red reads low, so green/red and blue/red read high, i.e. too hot.
     photo, _ = photo_of(1150, overexpose=4.0)
     result = measure(photo).to_dict()
     assert "clipped-pixels" in [w["code"] for w in result["warnings"]]

@@ -114,8 +114,9 @@ def test_a_colorimetric_sensor_decodes_to_the_blackbody_chromaticity(temperature
 
 
 def test_raw_measures_700_c_where_the_srgb_jpeg_of_the_same_capture_gives_only_a_ceiling():
-    # Below about 1500 K a blackbody lies outside sRGB (design notes section 3): the JPEG's green
-    # is clipped to a few codes, the raw file keeps it.
+    # At 973 K a blackbody lies outside sRGB (colour-science, CIE 1931 2-degree integration with
+    # the IEC 61966-2-1 matrix: blue negative below 1900 K, green below about 964 K): the JPEG's
+    # green is clipped to a few codes, the raw file keeps it.
     truth_c = 700.0
     jpeg = render_photo(truth_c + 273.15, camera=ideal_camera(), size=SIZE, white_balance=(1.0, 1.0, 1.0))
     raw = capture(truth_c, exposure=jpeg.exposure)

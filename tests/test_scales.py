@@ -2,7 +2,7 @@
 
 import pytest
 
-from glowtemp import scales
+from glowtemp import advice, scales
 
 
 @pytest.mark.parametrize("celsius, fahrenheit", [(0.0, 32.0), (100.0, 212.0), (-40.0, -40.0), (1222.0, 2231.6)])
@@ -69,3 +69,11 @@ def test_round_to():
     assert scales.round_to(1234.0, 10) == 1230
     assert scales.round_to(1235.0, 10) == 1240
     assert scales.round_to(-12.5, 5) == -15
+
+
+def test_the_below_glow_warning_starts_at_the_draper_point():
+    # J. W. Draper, Phil. Mag. 30 (1847) 345: every solid begins to glow at 977 °F (NIST SP 811
+    # conversion: 525 °C). Howe's first red (470 °C) needs eyes adapted to the dark.
+    assert advice.BELOW_GLOW_C == pytest.approx(scales.fahrenheit_to_celsius(977.0), abs=0.5)
+    assert "525 °C" in advice.below_glow().message
+    assert scales.heat_colour_name(advice.BELOW_GLOW_C) != "no visible glow"

@@ -166,13 +166,16 @@ def test_glow_gets_greener_with_temperature(camera_name):
     assert np.all(np.diff(ratios[4:]) > 0)  # strictly from 1200 K, where every camera sees green
 
 
-def test_ideal_camera_blue_is_zero_below_1500_k_in_srgb():
-    # DESIGN physics note and CIE 1931 colorimetry: blackbody blue is negative in linear sRGB
-    # below about 1500 K (out of gamut) and clips to zero.
-    for t in (900, 1100, 1300, 1500):
+def test_ideal_camera_blue_is_zero_below_about_1900_k_in_srgb():
+    # colour-science (CIE 1931 2-degree integration, IEC 61966-2-1 matrix): blackbody blue is
+    # negative in linear sRGB up to 1900 K (out of gamut) and clips to zero; above, it is kept.
+    for t in (900, 1300, 1700, 1880):
         rendered = render_photo(t, camera=ideal_camera(), scene="uniform", size=SMALL,
                                 white_balance=(1, 1, 1), noise=False)
         assert centre(rendered)[2] == 0
+    rendered = render_photo(2100, camera=ideal_camera(), scene="uniform", size=SMALL,
+                            white_balance=(1, 1, 1), noise=False)
+    assert centre(rendered)[2] > 0
 
 
 @pytest.mark.parametrize("camera_name", list(CAMERAS))
@@ -208,8 +211,9 @@ def test_display_p3_keeps_more_green_than_srgb():
 
 
 def test_overexposure_clips_red_and_auto_white_balance_looks_hotter():
-    # DESIGN physics notes: a blown-out red channel reads 255; auto white balance pulls glow
-    # towards neutral, raising green/red.
+    # An 8-bit file saturates at code 255 (IEC 61966-2-1 encodes [0, 1] to 0-255); grey-world
+    # auto white balance (Buchsbaum 1980) scales the channels towards equal means, so it pulls
+    # glow towards neutral and raises green/red.
     base = render_photo(1173, camera=NIKON, size=(64, 48))
     mask = base.region.mask(48, 64)
     assert base.codes[mask][:, 0].max() < 255
@@ -222,7 +226,8 @@ def test_overexposure_clips_red_and_auto_white_balance_looks_hotter():
 
 
 def test_ambient_daylight_tints_glow_and_lights_the_wall():
-    # DESIGN physics note: daylight reflected off the scene adds blue and green to the glow.
+    # Additive mixture (Grassmann's laws, CIE 015:2018): daylight reflected off the scene adds
+    # its own colour, far bluer and greener than glow's, to every channel of the glow.
     dark = render_photo(1100, camera=NIKON, scene="uniform", size=SMALL, noise=False)
     lit = render_photo(1100, camera=NIKON, scene="uniform", size=SMALL, noise=False, ambient=0.1)
     assert glow_ratio(lit, 1) > glow_ratio(dark, 1)
