@@ -156,6 +156,17 @@ def test_the_six_neutral_patches_come_out_neutral(patch_xyz):
     assert measured_ratio == pytest.approx(published_ratio, rel=0.1)
 
 
+def test_the_sensor_margin_reads_a_few_codes_below_the_black_level_tag(chart_bytes):
+    # The photosites left of the ActiveArea (columns 0-149) hold no image, only black and noise
+    # (the file names no MaskedAreas, so glowtemp keeps the BlackLevel tag, as DNG 1.4 has it).
+    # Their mean per CFA position is 2044-2052, a few codes below 2056: the cause of the dark
+    # neutrals' green cast stated above.
+    with rawpy.imread(io.BytesIO(chart_bytes)) as raw:
+        margin = raw.raw_image[26:, :150].astype(float)
+    means = [margin[dy::2, dx::2].mean() for dy in (0, 1) for dx in (0, 1)]
+    assert all(2044 <= mean <= 2052 for mean in means)
+
+
 def test_chromatic_patches_match_the_published_chart(patch_xyz):
     # Stated tolerance: CIE 2000 difference of chromaticity at most 7.5 per patch and 4.0 on
     # average over the 18 colour patches. The file's matrix is a daylight one used here under
