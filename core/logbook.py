@@ -24,7 +24,7 @@ from .logbook_fields import LogbookError
 from .logbook_schema import RESULT_COLUMNS, SchemaError, migrate, result_columns
 from .photo_store import PhotoStore, PhotoStoreError
 
-__all__ = ["Logbook", "LogbookError"]
+__all__ = ["Logbook", "LogbookError", "UploadConflict"]
 
 DATABASE_NAME = "glowtemp.sqlite3"
 PHOTOS_FOLDER = "photos"
@@ -33,6 +33,10 @@ ORPHAN_GRACE_S = 3600.0  # a photo no row names is swept only when older than th
 
 TRUSTED_FIELDS = ("reference_c", "cone", "cone_state", "note", "taken_at", "firing_id")
 FIRING_FIELDS = ("name", "kiln", "kind", "target_c", "target_cone", "started_at", "notes", "status")
+
+
+class UploadConflict(LogbookError):
+    """An upload id that already names a reading of another photo or another firing."""
 
 
 def _firing_values(known_cones, **given) -> dict:
@@ -233,6 +237,25 @@ class Logbook:
         reference_c=None, cone=None, cone_state=None, note=None,
     ) -> int:  # fmt: skip
         """Record a measured photo (already stored with :meth:`store_photo`); returns the reading id."""
+        reading_id, _ = self.add_uploaded_reading(
+            None, photo_key=photo_key, photo_name=photo_name, result=result, taken_at=taken_at, firing_id=firing_id,
+            reference_c=reference_c, cone=cone, cone_state=cone_state, note=note,
+        )  # fmt: skip
+        return reading_id
+
+    def add_uploaded_reading(
+        self, upload_id, *, photo_key, photo_name, result: dict, taken_at, firing_id=None,
+        reference_c=None, cone=None, cone_state=None, note=None,
+    ) -> tuple[int, bool]:  # fmt: skip
+        """Record a measured photo once per ``upload_id``; returns (reading id, whether it is new).
+
+        A reading that already carries ``upload_id`` (a retry whose first answer was lost) is
+        returned as it is, found and inserted in one transaction, so two copies of one upload
+        sent at once still make one row (the unique index on ``upload_id`` holds it across
+        processes too). The same upload id with another photo or firing is refused with
+        :class:`UploadConflict`. ``upload_id`` None records a new reading every time.
+        """
+        upload_id = fields.upload_id(upload_id)
         values = self._trusted_values(
             reference_c=reference_c, cone=cone, cone_state=cone_state, note=note, taken_at=taken_at
         )
@@ -241,14 +264,25 @@ class Logbook:
             photo_name=fields.text(photo_name, "photo name", required=True),
             result_json=self._result_json(result),
             created_at=fields.utc_now(),
+            upload_id=upload_id,
             **result_columns(result),
         )
         with self._write() as db:
             values["photo_key"] = self._stored_key(photo_key)  # under the lock: see forget_unused_photos
+            if upload_id is not None:
+                stored = self.reading_for_upload(upload_id)
+                if stored is not None:
+                    check_same_upload(stored, photo_key, firing_id)
+                    return stored["id"], False
             if firing_id is not None:
                 self._need_firing(firing_id)
             values["firing_id"] = firing_id
-            return self._insert_reading(db, values)
+            return self._insert_reading(db, values), True
+
+    def reading_for_upload(self, upload_id: str) -> dict | None:
+        """The reading recorded for a client-made upload id, if there is one."""
+        rows = self._read("SELECT * FROM readings WHERE upload_id = ?", (fields.upload_id(upload_id),))
+        return self._reading_dict(rows[0]) if rows else None
 
     def _insert_reading(self, db, values: dict) -> int:
         names = ", ".join(values)
@@ -379,6 +413,21 @@ class Logbook:
             for values in rows:
                 self._insert_reading(db, {**values, "firing_id": firing_id})
         return firing_id
+
+
+def check_same_upload(stored: dict, photo_key: str, firing_id) -> None:
+    """Refuse an upload id sent again with another photo or into another firing."""
+    if stored["photo_key"] != photo_key:
+        raise UploadConflict(
+            f"The upload id {stored['upload_id']} already belongs to reading {stored['id']} of another photo; "
+            "nothing was stored. The page makes a new id for each photo."
+        )
+    if stored["firing_id"] != firing_id:
+        where = f"firing {stored['firing_id']}" if stored["firing_id"] is not None else "no firing"
+        raise UploadConflict(
+            f"The upload id {stored['upload_id']} is already stored as reading {stored['id']} in {where}; "
+            "nothing was stored again."
+        )
 
 
 def _check_cone_pair(cone, cone_state) -> None:

@@ -8,6 +8,7 @@ machine's local time.
 from __future__ import annotations
 
 import math
+import re
 from datetime import datetime, timezone
 
 from .cones import normalise_cone
@@ -20,6 +21,7 @@ LOWEST_C = ABSOLUTE_ZERO_C
 HIGHEST_C = 3000.0  # far above any kiln or forge; guards against typing mistakes
 LONGEST_NAME = 200
 LONGEST_NOTE = 5000
+UPLOAD_ID_PATTERN = re.compile(r"[A-Za-z0-9_-]{16,64}")
 
 
 class LogbookError(ValueError):
@@ -94,6 +96,21 @@ def cone(value, known_cones, what: str = "cone") -> str | None:
             f"(a cones.csv in the data folder can add cones)."
         )
     return name
+
+
+def upload_id(value) -> str | None:
+    """A client-made upload id (16 to 64 letters, digits, ``-`` or ``_``), or None when not given.
+
+    >>> upload_id("3f2a9c81d0b54e6f8a7c6b5d4e3f2a1b")
+    '3f2a9c81d0b54e6f8a7c6b5d4e3f2a1b'
+    """
+    if value is None or value == "":
+        return None
+    if not isinstance(value, str) or not UPLOAD_ID_PATTERN.fullmatch(value):
+        raise LogbookError(
+            f"An upload id is 16 to 64 letters, digits, '-' or '_', made once by the page for each photo; got {value!r}."
+        )
+    return value
 
 
 def choice(value, allowed: tuple, what: str) -> str:

@@ -8,6 +8,13 @@ Version 1 kept each reading's result as JSON only. Version 2 adds columns for th
 and its bands (what the firing curve and queries read), filled in from the stored JSON, and
 indexes for a firing's readings and for photo references. Version 3 adds the devices paired
 with the web server (:mod:`glowtemp.sessions`), by a digest of their session secret.
+Version 4 makes firing and reading ids never reused (``AUTOINCREMENT``), so an old bookmark
+of a deleted firing cannot open a newer one, and gives readings the client-made upload id
+that a retried upload is recognised by (one reading per upload id, a unique index).
+
+Migrations run with foreign-key enforcement off, as SQLite's procedure for rebuilding a table
+asks (sqlite.org/lang_altertable.html, section 7), and each is checked with
+``PRAGMA foreign_key_check`` before it commits.
 """
 
 from __future__ import annotations
@@ -76,6 +83,65 @@ CREATE TABLE sessions (
 );
 """
 
+# Rebuilt with AUTOINCREMENT (sqlite.org/autoinc.html): SQLite then never hands out an id again,
+# not even that of the newest row after it is deleted. The columns are those of version 3,
+# spelled out so that this step does not change when later versions add columns.
+VERSION_4_FIRING_COLUMNS = (
+    "id, name, kiln, kind, target_c, target_cone, started_at, notes, status, closed_at, created_at"
+)
+VERSION_4_READING_COLUMNS = (
+    "id, firing_id, photo_key, photo_name, taken_at, result_json, reference_c, cone, cone_state, note, "
+    "created_at, status, temperature_c, band68_low_c, band68_high_c, band95_low_c, band95_high_c, "
+    "upper_bound_c, region_text, profile"
+)
+VERSION_4 = f"""
+CREATE TABLE firings_v4 (
+    id INTEGER PRIMARY KEY AUTOINCREMENT,
+    name TEXT NOT NULL,
+    kiln TEXT,
+    kind TEXT NOT NULL,
+    target_c REAL,
+    target_cone TEXT,
+    started_at TEXT NOT NULL,
+    notes TEXT,
+    status TEXT NOT NULL DEFAULT 'open',
+    closed_at TEXT,
+    created_at TEXT NOT NULL
+);
+INSERT INTO firings_v4 ({VERSION_4_FIRING_COLUMNS}) SELECT {VERSION_4_FIRING_COLUMNS} FROM firings;
+CREATE TABLE readings_v4 (
+    id INTEGER PRIMARY KEY AUTOINCREMENT,
+    firing_id INTEGER REFERENCES firings(id),
+    photo_key TEXT NOT NULL,
+    photo_name TEXT NOT NULL,
+    taken_at TEXT NOT NULL,
+    result_json TEXT NOT NULL,
+    reference_c REAL,
+    cone TEXT,
+    cone_state TEXT,
+    note TEXT,
+    created_at TEXT NOT NULL,
+    status TEXT,
+    temperature_c REAL,
+    band68_low_c REAL,
+    band68_high_c REAL,
+    band95_low_c REAL,
+    band95_high_c REAL,
+    upper_bound_c REAL,
+    region_text TEXT,
+    profile TEXT,
+    upload_id TEXT
+);
+INSERT INTO readings_v4 ({VERSION_4_READING_COLUMNS}) SELECT {VERSION_4_READING_COLUMNS} FROM readings;
+DROP TABLE readings;
+DROP TABLE firings;
+ALTER TABLE firings_v4 RENAME TO firings;
+ALTER TABLE readings_v4 RENAME TO readings;
+CREATE INDEX readings_by_firing ON readings (firing_id, taken_at);
+CREATE INDEX readings_by_photo ON readings (photo_key);
+CREATE UNIQUE INDEX readings_by_upload ON readings (upload_id);
+"""
+
 RESULT_COLUMNS = (
     "status",
     "temperature_c",
@@ -127,7 +193,7 @@ def _version_2(connection: sqlite3.Connection) -> None:
     _fill_result_columns(connection)
 
 
-MIGRATIONS = {1: _run_script(VERSION_1), 2: _version_2, 3: _run_script(VERSION_3)}
+MIGRATIONS = {1: _run_script(VERSION_1), 2: _version_2, 3: _run_script(VERSION_3), 4: _run_script(VERSION_4)}
 CURRENT_VERSION = max(MIGRATIONS)
 
 
@@ -147,7 +213,18 @@ def migrate(connection: sqlite3.Connection) -> int:
 
     ``connection`` must be in autocommit mode (``isolation_level=None``): each step runs in
     its own ``BEGIN IMMEDIATE`` transaction, so a killed process leaves a whole version.
+    Foreign keys are not enforced while the steps run (a table rebuild needs that) and are
+    checked before each step commits; their setting is put back afterwards.
     """
+    (enforced,) = connection.execute("PRAGMA foreign_keys").fetchone()
+    connection.execute("PRAGMA foreign_keys = OFF")
+    try:
+        return _migrate_steps(connection)
+    finally:
+        connection.execute(f"PRAGMA foreign_keys = {'ON' if enforced else 'OFF'}")
+
+
+def _migrate_steps(connection: sqlite3.Connection) -> int:
     first = None
     while True:
         connection.execute("BEGIN IMMEDIATE")
@@ -163,6 +240,12 @@ def migrate(connection: sqlite3.Connection) -> int:
                 connection.execute("COMMIT")
                 return first
             MIGRATIONS[found + 1](connection)
+            broken = connection.execute("PRAGMA foreign_key_check").fetchall()
+            if broken:
+                raise SchemaError(
+                    f"Moving the firing log to schema version {found + 1} would leave {len(broken)} rows "
+                    f"pointing at missing rows (first in table {broken[0][0]}); nothing was changed."
+                )
             connection.execute(
                 "INSERT INTO schema_version (version, applied_at) VALUES (?, ?)",
                 (found + 1, utc_now()),

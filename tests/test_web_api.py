@@ -16,7 +16,7 @@ from glowtemp.region import parse_region
 WIDTH, HEIGHT = TWO_HALVES_SIZE
 LEFT_BOX = f"10,20,{WIDTH // 2 - 30},{HEIGHT - 40}"  # well inside the 900 °C half
 RIGHT_BOX = f"{WIDTH // 2 + 20},20,{WIDTH // 2 - 30},{HEIGHT - 40}"  # inside the 1200 °C half
-WEB_ONLY_KEYS = {"id", "image", "preview_url"}
+WEB_ONLY_KEYS = {"id", "image", "preview_url", "upload_id"}
 
 
 def stored_name(data: bytes, suffix=".jpg") -> str:

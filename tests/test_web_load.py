@@ -21,7 +21,7 @@ from glowtemp.reading import measure
 
 UPLOADS = 20
 CLIENT_THREADS = 5
-WEB_ONLY_KEYS = {"id", "image", "preview_url"}
+WEB_ONLY_KEYS = {"id", "image", "preview_url", "upload_id"}
 
 
 def stored_name(data: bytes) -> str:

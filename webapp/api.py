@@ -4,7 +4,10 @@
   (``X,Y,W,H`` or ``circle:CX,CY,R``) or ``circle`` (``CX,CY,R``), optional ``profile`` (a
   stored camera profile's name). Measures, stores the photo and the reading in the firing
   log, answers 201 with the reading's JSON form (as ``glowtemp measure --json``) plus ``id``,
-  ``image`` {width, height} and ``preview_url``.
+  ``image`` {width, height} and ``preview_url``. Optional ``upload_id`` (made by the page once
+  per photo): sent again, it answers 200 with the reading already stored, never a second one;
+  optional ``captured_at`` (ISO 8601): when the page got the photo, the time taken when the
+  photo carries no EXIF time (:mod:`glowtemp.web.uploads`).
 - ``POST /api/readings/<id>/region``: the same fields as JSON or a form, without ``photo``;
   measures the stored photo again and replaces the stored result.
 - ``GET /api/readings/<id>/preview``: the stored photo, upright, reduced and in sRGB, as a JPEG
@@ -25,7 +28,7 @@ from flask import Blueprint, current_app, jsonify, request, send_file, url_for
 
 from .access import TOKEN_FIELD
 from .errors import ApiError
-from .uploads import measure_photo, profile_from, region_from, take_upload
+from .uploads import measure_photo, profile_from, region_from, stored_photo, take_upload
 
 blueprint = Blueprint("api", __name__, url_prefix="/api")
 
@@ -63,24 +66,18 @@ def reading_answer(result: dict, reading_id: int, photo, status: int, **extra):
 
 @blueprint.post("/readings")
 def create_reading():
-    taken = take_upload(request_fields())
-    return reading_answer(taken.result, taken.reading_id, taken.photo, 201)
+    fields = request_fields()
+    taken = take_upload(fields)
+    return reading_answer(taken.result, taken.reading_id, taken.photo, 201 if taken.created else 200,
+                          upload_id=fields.get("upload_id") or None)  # fmt: skip
 
 
 def stored_reading(reading_id: int):
     """The stored reading and its decoded photo; 404 when there is no such reading."""
-    from glowtemp.photo import load_photo
-
-    services = _services()
-    stored = services["logbook"].get_reading(reading_id)
+    stored = _services()["logbook"].get_reading(reading_id)
     if stored is None:
         raise ApiError(f"There is no reading number {reading_id}.", 404)
-    key = stored["photo_key"]
-    photo = services["photos"].get(key)
-    if photo is None:
-        photo = load_photo(services["logbook"].photo_path(key))
-        services["photos"].put(key, photo)
-    return stored, photo
+    return stored, stored_photo(stored["photo_key"])
 
 
 @blueprint.post("/readings/<int:reading_id>/region")

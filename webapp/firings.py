@@ -16,7 +16,8 @@ JSON API:
   fields to change), ``DELETE``.
 - ``POST /api/firings/<id>/readings``: multipart as ``POST /api/readings`` (``photo``, optional
   ``region``/``circle``, ``profile``) plus ``reference_c`` (or ``reference_f``), ``cone``,
-  ``cone_state``, ``note``, ``taken_at``; ``PATCH /api/firings/<id>/readings/<rid>`` edits
+  ``cone_state``, ``note``, ``taken_at``, and ``upload_id``/``captured_at`` as there (a retried
+  upload id answers 200 with the reading already stored); ``PATCH /api/firings/<id>/readings/<rid>`` edits
   trusted values.
 - ``GET /api/firings/<id>/export.csv`` and ``export.zip``.
 
@@ -146,6 +147,7 @@ def _reading_json(reading: dict) -> dict:
         "cone": reading["cone"],
         "cone_state": reading["cone_state"],
         "note": reading["note"],
+        "upload_id": reading["upload_id"],
         "preview_url": url_for("api.preview", reading_id=reading["id"]),
     }
 
@@ -340,7 +342,7 @@ def api_add_reading(firing_id: int):
     taken = _take_into(firing_id, _fields())
     photo = taken.photo
     body = {**_reading_json(_log().get_reading(taken.reading_id)), "image": {"width": photo.width, "height": photo.height}}
-    return jsonify(body), 201
+    return jsonify(body), 201 if taken.created else 200
 
 
 @blueprint.patch("/api/firings/<int:firing_id>/readings/<int:reading_id>")

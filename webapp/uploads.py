@@ -11,6 +11,14 @@ firing's readings (its page form and ``POST /api/firings/<id>/readings``).
   (``photo-3f2a9c1b04de.jpg``): nothing the client sends, such as its file name, is stored.
 - The photo file is complete on disk before the reading's row is committed, and removed again
   when the row is refused, so a failed upload leaves nothing behind.
+- An ``upload_id`` made by the page for each photo makes sending it again harmless: a retry
+  after a lost answer gets the reading already stored (``created`` False), found before the
+  photo is measured again and, for two copies sent at once, in the transaction that stores the
+  row (:meth:`glowtemp.logbook.Logbook.add_uploaded_reading`). The same id with another photo
+  or firing is refused with 409.
+- The time a reading was taken: a trusted ``taken_at`` sent with it, else the photo's EXIF
+  DateTimeOriginal, else ``captured_at`` (when the page got the photo, sent with a photo that
+  waited to be sent), else the moment it arrives.
 """
 
 from __future__ import annotations
@@ -34,6 +42,7 @@ class Taken:
     reading_id: int
     photo: object
     result: dict
+    created: bool = True  # False: this upload id was stored before (a retry after a lost answer)
 
 
 def _text(fields: dict, name: str) -> str:
@@ -73,6 +82,55 @@ def profile_from(fields: dict):
         return load_profile(current_app.config["DATA_DIR"], name)
     except ProfileError as error:
         raise ApiError(str(error)) from None
+
+
+def upload_id_from(fields: dict) -> str | None:
+    """The client-made ``upload_id`` of the request, or None."""
+    from glowtemp.logbook_fields import LogbookError, upload_id
+
+    try:
+        return upload_id(_text(fields, "upload_id"))
+    except LogbookError as error:
+        raise ApiError(str(error)) from None
+
+
+def captured_at_from(fields: dict) -> str | None:
+    """``captured_at``: when the page got the photo (ISO 8601), used when the photo has no EXIF time."""
+    from glowtemp.logbook_fields import LogbookError, time_text
+
+    value = _text(fields, "captured_at")
+    try:
+        return time_text(value, "time the page got the photo (captured_at)") if value else None
+    except LogbookError as error:
+        raise ApiError(str(error)) from None
+
+
+def stored_photo(key: str):
+    """The decoded stored photo with ``key``, from the cache of recently decoded photos if there."""
+    from glowtemp.photo import load_photo
+
+    services = current_app.extensions["glowtemp"]
+    photo = services["photos"].get(key)
+    if photo is None:
+        photo = load_photo(services["logbook"].photo_path(key))
+        services["photos"].put(key, photo)
+    return photo
+
+
+def _stored_before(upload_id: str | None, data: bytes, firing_id: int | None) -> Taken | None:
+    """The reading already stored for ``upload_id`` with these photo bytes, or None if there is none."""
+    from glowtemp.logbook import UploadConflict, check_same_upload
+    from glowtemp.photo_store import photo_key
+
+    stored = None if upload_id is None else current_app.extensions["glowtemp"]["logbook"].reading_for_upload(upload_id)
+    if stored is None:
+        return None
+    suffix = "." + stored["photo_key"].rpartition(".")[2]
+    try:
+        check_same_upload(stored, photo_key(data, suffix), firing_id)
+    except UploadConflict as error:
+        raise ApiError(str(error), 409) from None
+    return Taken(stored["id"], stored_photo(stored["photo_key"]), stored["result"], created=False)
 
 
 def uploaded_bytes() -> bytes:
@@ -126,33 +184,42 @@ def stored_name(data: bytes, photo) -> str:
 def take_upload(fields: dict, firing_id: int | None = None, trusted: dict | None = None) -> Taken:
     """Measure the request's photo and store it with its reading (and trusted values, in a firing).
 
-    ``fields`` are the request's text fields (region, circle, profile); ``trusted`` are already
-    gathered trusted values (reference_c, cone, cone_state, note, taken_at). Raises
-    :class:`ApiError` with nothing stored when any part is refused.
+    ``fields`` are the request's text fields (region, circle, profile, upload_id, captured_at);
+    ``trusted`` are already gathered trusted values (reference_c, cone, cone_state, note,
+    taken_at). Raises :class:`ApiError` with nothing stored when any part is refused.
     """
-    from glowtemp.logbook import LogbookError
+    from glowtemp.logbook import LogbookError, UploadConflict
     from glowtemp.photo import STORED_SUFFIXES
 
-    region, profile = region_from(fields), profile_from(fields)
+    upload_id, captured_at = upload_id_from(fields), captured_at_from(fields)
     data = uploaded_bytes()
+    again = _stored_before(upload_id, data, firing_id)
+    if again is not None:
+        return again
+    region, profile = region_from(fields), profile_from(fields)
     photo = decode(data)
     name = stored_name(data, photo)
     result = measure_photo(photo, region, profile, name)
     services = current_app.extensions["glowtemp"]
     log = services["logbook"]
     trusted = dict(trusted or {})
-    trusted.setdefault("taken_at", photo.metadata.taken_at or datetime.now(timezone.utc))
+    trusted.setdefault("taken_at", photo.metadata.taken_at or captured_at or datetime.now(timezone.utc))
     try:
         key = log.store_photo(data, STORED_SUFFIXES[photo.format])
     except LogbookError as error:
         raise ApiError(str(error)) from None
     try:
-        reading_id = log.add_reading(photo_key=key, photo_name=name, result=result, firing_id=firing_id, **trusted)
+        reading_id, created = log.add_uploaded_reading(
+            upload_id, photo_key=key, photo_name=name, result=result, firing_id=firing_id, **trusted
+        )
     except LogbookError as error:
         log.forget_unused_photos([key])
-        raise ApiError(str(error)) from None
+        raise ApiError(str(error), 409 if isinstance(error, UploadConflict) else 400) from None
     except BaseException:
         log.forget_unused_photos([key])
         raise
+    if not created:  # sent twice at once: the other copy stored it first
+        stored = log.get_reading(reading_id)
+        return Taken(reading_id, photo, stored["result"], created=False)
     services["photos"].put(key, photo)
     return Taken(reading_id, photo, result)
