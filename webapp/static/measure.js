@@ -1,6 +1,9 @@
-// The measuring page: send a photo, show the reading, let the user move the measured area.
+// The measuring page: keep the photo on this device, send it, show the reading, let the user
+// move the measured area. A photo the server cannot be reached for waits in the send queue.
 import { RegionEditor } from "./region.js";
 import { paintScale, showReading } from "./result.js";
+import { discard, keepPhoto, onQueueChange, sendKept, sendWhenPossible } from "./send_queue.js";
+import { clockTime, listWaiting } from "./waiting_list.js";
 import { clearMap, mapStatus, showMap } from "./tilemap.js";
 
 const $ = (id) => document.getElementById(id);
@@ -19,6 +22,8 @@ const state = {
   scale: null,
   profile: "",       // the chosen camera profile's name; "" for none
   sequence: 0,       // answers to older region requests are dropped
+  watching: null,    // the upload id of the photo this page is sending and waiting for
+  sentMeanwhile: null,  // {photo, body} of a waiting photo sent while another reading was shown
 };
 
 function remembered(key, fallback) {
@@ -55,45 +60,56 @@ function choosePhotoKind(kind) {
   }
 }
 
-// Send form data with upload progress (fetch cannot report it); resolves to {status, body}.
-function send(url, form, onProgress) {
-  return new Promise((resolve) => {
-    const request = new XMLHttpRequest();
-    request.open("POST", url);
-    for (const [name, value] of Object.entries(TOKEN_HEADERS)) request.setRequestHeader(name, value);
-    request.responseType = "json";
-    request.upload.onprogress = (e) => { if (e.lengthComputable) onProgress(e.loaded / e.total); };
-    request.upload.onload = () => onProgress(1);
-    request.onload = () => resolve({ status: request.status, body: request.response });
-    request.onerror = () => resolve({ status: 0, body: { error: "The server could not be reached. Is glowtemp still running?" } });
-    request.send(form);
-  });
-}
-
 async function upload(file, regionText) {
   state.file = file;
   showProblem("");
   showResultBlocks(false);
   $("photo-section").hidden = true;
   $("measure-drawn").hidden = true;
+  showProgress("Keeping the photo on this device…", null);
+  let entry;
+  try {
+    entry = await keepPhoto(file, { region: regionText || "", profile: state.profile });
+  } catch (error) {
+    showProgress(null);
+    showProblem(`This browser could not read the photo (${error.message}); take or choose it again.`);
+    return;
+  }
+  state.watching = entry.uploadId;
   showProgress("Sending the photo… 0 %", 0);
-  const form = new FormData();
-  form.append("photo", file, file.name || "photo.jpg");
-  if (regionText) form.append("region", regionText);
-  if (state.profile) form.append("profile", state.profile);
-  const answer = await send("/api/readings", form, (share) => {
+  const answer = await sendKept(entry.uploadId, (share) => {
     if (share < 1) showProgress(`Sending the photo… ${Math.round(share * 100)} %`, share * 100);
     else showProgress("Reading the colour of the glow…", null);
   });
+  state.watching = null;
   showProgress(null);
-  if (answer.status === 201) {
+  if (answer.outcome === "stored") {
     showPhoto(file, answer.body);
     showResult(answer.body);
     return;
   }
+  if (answer.outcome === "later") {
+    showProblem(`Not measured yet: ${answer.entry.problem}. The photo is kept on this device and is sent ` +
+      "by itself when glowtemp answers (see the photos waiting to send).");
+    return;
+  }
+  await discard(entry.uploadId);  // refused while the user watches: the reason is shown here
   const body = answer.body || {};
   showProblem(body.error || `The server answered with an error (${answer.status}).`);
   if (body.draw_region) offerDrawing(file);
+}
+
+// A waiting measurement (no firing) was sent by itself: show it, or offer it if a reading is on show.
+function sentByItself({ stored, body }) {
+  if (!stored || stored.firingId !== null || stored.uploadId === state.watching) return;
+  if (!state.reading && $("result").hidden && $("measure-drawn").hidden) {
+    showPhoto(stored.photo, body);
+    showResult(body);
+    return;
+  }
+  state.sentMeanwhile = { photo: stored.photo, body };
+  $("sent-meanwhile-text").textContent = `The photo taken ${clockTime(stored.takenAt)} was sent and measured.`;
+  $("sent-meanwhile").hidden = false;
 }
 
 function showPhoto(file, reading) {
@@ -246,6 +262,14 @@ $("map-make").addEventListener("click", makeMap);
 for (const select of document.querySelectorAll("[data-profile]")) {
   select.addEventListener("change", () => setProfile(select.value));
 }
+$("sent-meanwhile-show").addEventListener("click", () => {
+  const { photo, body } = state.sentMeanwhile;
+  state.sentMeanwhile = null;
+  $("sent-meanwhile").hidden = true;
+  showProblem("");
+  showPhoto(photo, body);
+  showResult(body);
+});
 $("again").addEventListener("click", () => {
   $("capture").hidden = false;
   showResultBlocks(false);
@@ -260,3 +284,6 @@ $("again").addEventListener("click", () => {
 showUnit(state.unit);
 loadScale();
 loadProfiles();
+onQueueChange(sentByItself);
+listWaiting();
+sendWhenPossible();
