@@ -122,6 +122,22 @@ def live_server(tmp_path_factory):
 
 
 @pytest.fixture
+def own_live_server(tmp_path):
+    """The app with a data folder of its own on waitress on 127.0.0.1; yields (URL, the app)."""
+    from waitress.server import create_server
+
+    from glowtemp.web import create_app
+
+    app = create_app({"DATA_DIR": tmp_path / "own-data"})
+    server = create_server(app, host="127.0.0.1", port=0, threads=4)
+    thread = threading.Thread(target=server.run, daemon=True)
+    thread.start()
+    yield f"http://127.0.0.1:{server.effective_port}", app
+    server.close()
+    thread.join(timeout=5)
+
+
+@pytest.fixture
 def paired_live_server(tmp_path):
     """The app asking every device to pair, on waitress on 127.0.0.1; yields (URL, its pairing codes)."""
     from waitress.server import create_server

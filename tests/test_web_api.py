@@ -257,6 +257,17 @@ def test_profiles_are_listed_with_a_label(profiled_app):
     assert "kiln phone" in listed[0]["label"] and "3 pairs" in listed[0]["label"]
 
 
+def test_profile_labels_give_the_span_of_the_pairs_in_the_unit_asked(profiled_app):
+    client = profiled_app.test_client()
+    (in_c,) = client.get("/api/profiles").get_json()["profiles"]
+    (in_f,) = client.get("/api/profiles?unit=f").get_json()["profiles"]
+    low_c, high_c = in_c["span_c"]
+    assert in_c["label"].endswith(f"{low_c:.0f}–{high_c:.0f} °C")
+    low_f, high_f = low_c * 9 / 5 + 32, high_c * 9 / 5 + 32  # NIST SP 811 B.9
+    assert in_f["label"].endswith(f"{low_f:.0f}–{high_f:.0f} °F") and "°C" not in in_f["label"]
+    assert in_f["span_c"] == in_c["span_c"]  # the data stay in °C
+
+
 def test_no_profiles_listed_in_an_empty_data_folder(web_client):
     assert web_client.get("/api/profiles").get_json() == {"profiles": []}
 

@@ -13,7 +13,7 @@
 - ``GET /api/readings/<id>/preview``: the stored photo, upright, reduced and in sRGB, as a JPEG
   (a raw photo brought to a display brightness: :mod:`glowtemp.web.preview`).
 - ``GET /api/scale``: blackbody colours along a temperature scale, for painting.
-- ``GET /api/profiles``: the stored camera profiles, for the picker.
+- ``GET /api/profiles``: the stored camera profiles, for the picker (``?unit=f``: labels in °F).
 
 A reading's temperature map (``/api/readings/<id>/map``) is in :mod:`glowtemp.web.maps`.
 
@@ -121,13 +121,18 @@ def scale():
 
 @blueprint.get("/profiles")
 def profiles():
-    """Stored camera profiles, each with a label for the picker."""
+    """Stored camera profiles, each with a label for the picker; ``?unit=f`` gives the span of
+    its pairs in °F (the page asks in the unit it shows)."""
     from glowtemp.profile_store import list_profiles
+    from glowtemp.scales import celsius_to_fahrenheit
 
+    fahrenheit = request.args.get("unit") == "f"
     listed = []
     for summary in list_profiles(current_app.config["DATA_DIR"]):
         low, high = summary["span_c"]
+        if fahrenheit:
+            low, high = celsius_to_fahrenheit(low), celsius_to_fahrenheit(high)
         camera = summary.get("camera_model") or "camera not recorded"
-        label = f"{summary['name']}: {camera}, {summary['pairs']} pairs, {low:.0f}–{high:.0f} °C"
+        label = f"{summary['name']}: {camera}, {summary['pairs']} pairs, {low:.0f}–{high:.0f} °{'F' if fahrenheit else 'C'}"
         listed.append({**summary, "label": label})
     return jsonify(profiles=listed)

@@ -95,6 +95,7 @@ async function sendReadings(event) {
     }));
   }
   submit.disabled = false;
+  entries.forEach((entry) => watching.delete(entry.uploadId));  // sent again later: shown when stored
   finish(outcomes);
 }
 
@@ -113,7 +114,9 @@ function finish(outcomes) {
   const parts = [];
   if (stored.length) parts.push(`${stored.length} added (reload to see them)`);
   if (waiting.length) {
-    parts.push(`${waiting.length === 1 ? "the photo is" : `${waiting.length} photos are`} kept on this device and sent by themselves when glowtemp answers (${waiting[0].entry.problem})`);
+    const kept = waiting.length === 1 ? "the photo is kept on this device and is sent by itself"
+      : `${waiting.length} photos are kept on this device and are sent by themselves`;
+    parts.push(`not sent yet: ${waiting[0].entry.problem}. ${kept[0].toUpperCase()}${kept.slice(1)} when glowtemp answers`);
   }
   if (refused.length) parts.push(`${refused.length} not taken by the server: see the photos waiting to send`);
   const text = parts.join("; ");

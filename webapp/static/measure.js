@@ -210,13 +210,15 @@ async function loadScale() {
   paintScale(state.scale, state.unit);
 }
 
-async function loadProfiles() {
-  const response = await fetch("/api/profiles").catch(() => null);
+// The profile pickers, labelled in the unit on show (a profile's label gives the span of its pairs).
+async function loadProfiles(unit) {
+  const response = await fetch(`/api/profiles?unit=${unit}`).catch(() => null);
   if (!response || !response.ok) return;
   const { profiles } = await response.json();
   const wanted = remembered(PROFILE_KEY, "");
   state.profile = profiles.some((p) => p.name === wanted) ? wanted : "";
   for (const select of document.querySelectorAll("[data-profile]")) {
+    select.replaceChildren(select.options[0]);  // keep "None: uncalibrated estimate"
     for (const profile of profiles) {
       const option = document.createElement("option");
       option.value = profile.name;
@@ -236,7 +238,9 @@ function setProfile(name) {
 }
 
 function showUnit(unit) {
+  const changed = unit !== state.unit;
   state.unit = unit;
+  if (changed) loadProfiles(unit);
   for (const chip of document.querySelectorAll("[data-unit]")) {
     chip.setAttribute("aria-pressed", String(chip.dataset.unit === unit));
   }
@@ -283,7 +287,7 @@ $("again").addEventListener("click", () => {
 
 showUnit(state.unit);
 loadScale();
-loadProfiles();
+loadProfiles(state.unit);
 onQueueChange(sentByItself);
 listWaiting();
 sendWhenPossible();
