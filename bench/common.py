@@ -34,3 +34,14 @@ def start_server(data_dir: Path, *extra: str):
         if line.startswith("Open "):
             return server, line.split()[-1].rstrip("/")
     raise SystemExit("glowtemp serve did not start")
+
+
+def fresh_copy(photo: Path, number: int) -> Path:
+    """The photo with a JPEG comment (COM marker, ITU-T T.81 B.2.4.5) naming the run, so every
+    upload is a new file for the content-addressed photo store, as every real photo is."""
+    data = photo.read_bytes()
+    comment = f"bench run {number}".encode()
+    marker = b"\xff\xfe" + (len(comment) + 2).to_bytes(2, "big") + comment
+    copy = photo.with_name(f"run-{number}.jpg")
+    copy.write_bytes(data[:2] + marker + data[2:])
+    return copy

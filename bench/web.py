@@ -28,7 +28,7 @@ import urllib.request
 import uuid
 from pathlib import Path
 
-from common import render_12mp_photo, start_server
+from common import fresh_copy, render_12mp_photo, start_server
 
 CHROMIUM = "/usr/bin/chromium"
 CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking",
@@ -80,17 +80,6 @@ def page_weight(browser, url: str) -> dict:
     page.goto(url + "/", wait_until="networkidle")
     page.close()
     return sizes
-
-
-def fresh_copy(photo: Path, number: int) -> Path:
-    """The photo with a JPEG comment (COM marker, ITU-T T.81 B.2.4.5) naming the run, so every
-    upload is a new file for the content-addressed photo store, as every real photo is."""
-    data = photo.read_bytes()
-    comment = f"bench run {number}".encode()
-    marker = b"\xff\xfe" + (len(comment) + 2).to_bytes(2, "big") + comment
-    copy = photo.with_name(f"run-{number}.jpg")
-    copy.write_bytes(data[:2] + marker + data[2:])
-    return copy
 
 
 def time_page(page, url: str, photo: Path) -> tuple[float, float]:
