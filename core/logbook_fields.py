@@ -107,8 +107,9 @@ def upload_id(value) -> str | None:
     if value is None or value == "":
         return None
     if not isinstance(value, str) or not UPLOAD_ID_PATTERN.fullmatch(value):
+        shown = repr(value) if len(repr(value)) <= 80 else f"{len(str(value))} characters"
         raise LogbookError(
-            f"An upload id is 16 to 64 letters, digits, '-' or '_', made once by the page for each photo; got {value!r}."
+            f"An upload id is 16 to 64 letters, digits, '-' or '_', made once by the page for each photo; got {shown}."
         )
     return value
 

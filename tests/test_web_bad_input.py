@@ -92,6 +92,12 @@ CASES = [
     Case("thermocouple value of infinity", 400, "between", fields={"reference_c": "inf"}, into_firing=True),
     Case("a cone not in the table", 400, "cone table", fields={"cone": "99"}, into_firing=True),
     Case("time that is not a time", 400, "date and time", fields={"taken_at": "noon"}, into_firing=True),
+    # Sending again (the page's send queue)
+    Case("upload id of SQL", 400, "upload id", fields={"upload_id": "x'; DROP TABLE readings; --"}),
+    Case("upload id of 10 KB", 400, "upload id", fields={"upload_id": "a" * (10 * KB)}),
+    Case("upload id with a path in it", 400, "upload id", fields={"upload_id": "../../photos/0123456789abcdef"}),
+    Case("captured_at that is not a time", 400, "captured_at", fields={"captured_at": "when the kiln was hot"},
+         into_firing=True),
 ]
 
 
