@@ -39,7 +39,7 @@ function clearForm() {
 
 // Nothing typed or chosen and no box in use: reloading the page loses nothing.
 function pageAtRest() {
-  const typing = document.activeElement && document.activeElement.closest("form");
+  const typing = document.activeElement && document.activeElement.matches("form textarea, form select, form input:not([type=file])");
   return chosenFiles().length === 0 && !Object.values(trustedValues()).some((v) => v) && !typing;
 }
 
