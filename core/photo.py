@@ -16,8 +16,13 @@ raw DNG files go to :mod:`glowtemp.raw`.
 References
 ----------
 - CIPA DC-008-2019 / JEITA CP-3451E, Exchangeable image file format for digital still cameras
-  (Exif 2.32): Orientation (0x0112), ExposureTime, FNumber, PhotographicSensitivity,
-  DateTimeOriginal, ColorSpace (0xA001), WhiteBalance (0xA403), InteroperabilityIndex.
+  (Exif 2.32): Orientation (0x0112), ExposureTime (0x829A), FNumber (0x829D),
+  PhotographicSensitivity (0x8827), SensitivityType (0x8830), StandardOutputSensitivity
+  (0x8831), ExposureBiasValue (0x9204), CustomRendered (0xA401), DateTimeOriginal (0x9003),
+  ColorSpace (0xA001), WhiteBalance (0xA403), InteroperabilityIndex.
+- ISO 12232:2019, Photography - Digital still cameras - Determination of exposure index, ISO
+  speed ratings, standard output sensitivity, and recommended exposure index: what
+  SensitivityType names.
 - CIPA DC-009-2010, Design rule for Camera File system (DCF 2.0), Optional colour space:
   InteroperabilityIndex "R03" marks Adobe RGB (1998) files.
 - IEC 61966-2-1:1999 (sRGB) and Adobe RGB (1998) Color Image Encoding (gamma 563/256).
@@ -55,6 +60,8 @@ TAG_ORIENTATION = 0x0112
 TAG_MAKE, TAG_MODEL = 0x010F, 0x0110
 IFD_EXIF, IFD_INTEROP = 0x8769, 0xA005
 TAG_EXPOSURE_TIME, TAG_F_NUMBER, TAG_ISO = 0x829A, 0x829D, 0x8827
+TAG_SENSITIVITY_TYPE, TAG_STANDARD_OUTPUT_SENSITIVITY = 0x8830, 0x8831
+TAG_EXPOSURE_BIAS, TAG_CUSTOM_RENDERED = 0x9204, 0xA401
 TAG_DATETIME_ORIGINAL, TAG_COLOR_SPACE, TAG_WHITE_BALANCE = 0x9003, 0xA001, 0xA403
 TAG_INTEROP_INDEX = 0x0001
 TIFF_BYTE_ORDERS = (b"II", b"MM")  # TIFF 6.0 header; a DNG is a TIFF
@@ -71,9 +78,31 @@ class PhotoError(ValueError):
     """A file glowtemp cannot use as a photo, with the reason and what to do in plain words."""
 
 
+# Plausible ranges of the exposure tags; a value outside is damage or a placeholder and reads as None.
+EXPOSURE_TIME_RANGE_S = (1e-6, 3600.0)  # from memory: 1/1 000 000 s electronic shutters to an hour's bulb
+F_NUMBER_RANGE = (0.5, 256.0)  # N = 1 / (2 sin u) >= 0.5 for any lens in air (Abbe sine condition)
+SENSITIVITY_RANGE = (1.0, 10_000_000.0)  # from memory: the highest ISO settings sold are a few million
+EXPOSURE_BIAS_RANGE_EV = (-10.0, 10.0)  # common practice: cameras offer -5 to +5 EV
+SENSITIVITY_TYPES = range(8)  # Exif 2.32 SensitivityType: 0 unknown, 1 SOS, 2 REI, 3 ISO speed, 4-7 pairs
+SENSITIVITY_TYPE_SOS = 1
+ISO_TAG_CAP = 65535  # Exif 2.32: PhotographicSensitivity holds 65535 when the value is higher
+
+
 @dataclass(frozen=True)
 class PhotoMetadata:
-    """Camera settings from EXIF that matter for a glow reading (CIPA DC-008)."""
+    """Camera settings from EXIF that matter for a glow reading (CIPA DC-008-2019, Exif 2.32).
+
+    Exposure settings are None when the tag is missing or its value is impossible (zero,
+    negative, not a number, or outside the plausible ranges above). ``iso`` is
+    PhotographicSensitivity, the ISO 12232 parameter that ``sensitivity_type`` names (1 is
+    standard output sensitivity, SOS); ``standard_output_sensitivity`` is the separate SOS tag.
+    ``exposure_bias_ev`` is the exposure compensation the photographer set (0 is a value, not
+    missing). ``custom_rendered`` is the raw CustomRendered code: 0 normal process, 1 custom
+    (Exif 2.32); makers use higher codes for pictures merged from several frames.
+    ``baseline_exposure_ev`` is a DNG's BaselineExposure (DNG 1.6, tag 50730): how many EV a raw
+    converter adds for a normal rendering; None when the file has none (the specification's
+    default is then 0).
+    """
 
     white_balance: str | None = None  # "auto" | "manual" (WhiteBalance 0 / 1) | "none" (raw)
     exposure_time_s: float | None = None
@@ -82,6 +111,11 @@ class PhotoMetadata:
     camera_make: str | None = None
     camera_model: str | None = None
     taken_at: datetime | None = None  # DateTimeOriginal, camera local time, no zone
+    exposure_bias_ev: float | None = None
+    sensitivity_type: int | None = None
+    standard_output_sensitivity: int | None = None
+    custom_rendered: int | None = None
+    baseline_exposure_ev: float | None = None
 
     def to_dict(self) -> dict:
         return {
@@ -92,7 +126,43 @@ class PhotoMetadata:
             "camera_make": self.camera_make,
             "camera_model": self.camera_model,
             "taken_at": self.taken_at.isoformat() if self.taken_at else None,
+            "exposure_bias_ev": self.exposure_bias_ev,
+            "sensitivity_type": self.sensitivity_type,
+            "standard_output_sensitivity": self.standard_output_sensitivity,
+            "custom_rendered": self.custom_rendered,
+            "baseline_exposure_ev": self.baseline_exposure_ev,
         }
+
+
+def _within(value: float | None, bounds) -> float | None:
+    return value if value is not None and bounds[0] <= value <= bounds[1] else None
+
+
+def _code(value: float | None, allowed=range(65536)) -> int | None:
+    return int(value) if value is not None and value == int(value) and int(value) in allowed else None
+
+
+def exposure_fields(value_of) -> dict:
+    """The exposure fields of :class:`PhotoMetadata` from ``value_of(tag)``, a finite number or None.
+
+    Shared by JPEG, PNG, TIFF and HEIC EXIF and by DNG files (which may keep these tags in
+    IFD 0): tag numbers from Exif 2.32 (CIPA DC-008-2019). An ISO above 65535 is read from
+    StandardOutputSensitivity when SensitivityType says the ISO value is SOS.
+    """
+    sensitivity_type = _code(value_of(TAG_SENSITIVITY_TYPE), SENSITIVITY_TYPES)
+    sos = _within(value_of(TAG_STANDARD_OUTPUT_SENSITIVITY), SENSITIVITY_RANGE)
+    iso = _within(value_of(TAG_ISO), SENSITIVITY_RANGE)
+    if iso == ISO_TAG_CAP and sensitivity_type == SENSITIVITY_TYPE_SOS and sos and sos > iso:
+        iso = sos
+    return {
+        "exposure_time_s": _within(value_of(TAG_EXPOSURE_TIME), EXPOSURE_TIME_RANGE_S),
+        "f_number": _within(value_of(TAG_F_NUMBER), F_NUMBER_RANGE),
+        "iso": round(iso) if iso else None,
+        "exposure_bias_ev": _within(value_of(TAG_EXPOSURE_BIAS), EXPOSURE_BIAS_RANGE_EV),
+        "sensitivity_type": sensitivity_type,
+        "standard_output_sensitivity": round(sos) if sos else None,
+        "custom_rendered": _code(value_of(TAG_CUSTOM_RENDERED)),
+    }
 
 
 _CHANNELS = np.arange(3)
@@ -279,13 +349,14 @@ def _exif(image: Image.Image) -> tuple[dict, dict, dict]:
 
 
 def _number(value) -> float | None:
+    """A Pillow EXIF value (number, IFDRational, or a tuple of them) as a finite float, or None."""
     if isinstance(value, (tuple, list)):
         value = value[0] if value else None
     try:
         number = float(value)
     except (TypeError, ValueError, ZeroDivisionError):
         return None
-    return number if math.isfinite(number) and number > 0 else None
+    return number if math.isfinite(number) else None
 
 
 def exif_text(value) -> str | None:
@@ -306,15 +377,12 @@ def exif_time(value) -> datetime | None:
 
 
 def _metadata(base: dict, exif_ifd: dict) -> PhotoMetadata:
-    iso = _number(exif_ifd.get(TAG_ISO))
     return PhotoMetadata(
         white_balance={0: "auto", 1: "manual"}.get(exif_ifd.get(TAG_WHITE_BALANCE)),
-        exposure_time_s=_number(exif_ifd.get(TAG_EXPOSURE_TIME)),
-        iso=round(iso) if iso else None,
-        f_number=_number(exif_ifd.get(TAG_F_NUMBER)),
         camera_make=exif_text(base.get(TAG_MAKE)),
         camera_model=exif_text(base.get(TAG_MODEL)),
         taken_at=exif_time(exif_ifd.get(TAG_DATETIME_ORIGINAL)),
+        **exposure_fields(lambda tag: _number(exif_ifd.get(tag))),
     )
 
 

@@ -39,12 +39,14 @@ white-balance normalised, for sRGB output), so the tags are read with tifffile.
 
 References
 ----------
-- Adobe, Digital Negative (DNG) Specification, version 1.4.0.0 (2012): chapter 4 (BlackLevel,
-  WhiteLevel, ColorMatrix1/2, CameraCalibration1/2, AnalogBalance, CalibrationIlluminant1/2)
-  and chapter 6, "Mapping Camera Color Space to CIE XYZ Space" (XYZtoCamera = AB CC CM, and
-  the interpolation of two matrices by inverse correlated colour temperature).
+- Adobe, Digital Negative (DNG) Specification, version 1.4.0.0 (2012) and 1.6.0.0 (2020):
+  chapter 4 (BlackLevel, WhiteLevel, ColorMatrix1/2, CameraCalibration1/2, AnalogBalance,
+  CalibrationIlluminant1/2, BaselineExposure, tag 50730) and chapter 6, "Mapping Camera
+  Color Space to CIE XYZ Space" (XYZtoCamera = AB CC CM, and the interpolation of two matrices
+  by inverse correlated colour temperature).
 - ISO 22028-2:2013, Reference output medium metric RGB (ROMM RGB): primaries and D50 white.
-- CIPA DC-008-2019 (Exif 2.32), LightSource codes used by CalibrationIlluminant.
+- CIPA DC-008-2019 (Exif 2.32), LightSource codes used by CalibrationIlluminant, and the
+  exposure tags read by :func:`glowtemp.photo.exposure_fields`.
 - D. Coffin, dcraw.c, ``adobe_coeff`` camera table (XYZ to camera matrices for CIE D65).
 - ISO 12234-2:2001 (TIFF/EP): CFARepeatPatternDim and CFAPattern.
 """
@@ -58,7 +60,16 @@ import numpy as np
 
 from .colourspaces import LINEAR_ROMM
 from .estimate import UNCALIBRATED, CameraTerm
-from .photo import MIN_SIDE_PX, Photo, PhotoError, PhotoMetadata, exif_text, exif_time, upright
+from .photo import (
+    MIN_SIDE_PX,
+    Photo,
+    PhotoError,
+    PhotoMetadata,
+    exif_text,
+    exif_time,
+    exposure_fields,
+    upright,
+)
 
 RAW_SPACE = LINEAR_ROMM
 RAW_SOURCE = "dng"  # Photo.space_source for raw photos: the colour comes from the file's matrix
@@ -86,7 +97,9 @@ TAG_DNG_VERSION = 50706
 PHOTOMETRIC_CFA = 32803
 TAG_EXIF_IFD = 34665
 TAG_ORIENTATION, TAG_MAKE, TAG_MODEL = 274, 271, 272
-TAG_EXPOSURE_TIME, TAG_F_NUMBER, TAG_ISO, TAG_DATETIME_ORIGINAL = 33434, 33437, 34855, 36867
+TAG_DATETIME_ORIGINAL = 36867
+TAG_BASELINE_EXPOSURE = 50730  # DNG 1.6: SRATIONAL, EV a raw converter adds for a normal rendering
+BASELINE_EXPOSURE_LIMIT_EV = 10.0  # from memory: cameras write about -1 to +3 EV; beyond 10 is damage
 
 
 class RawError(PhotoError):
@@ -283,11 +296,11 @@ def decode_dng(data: bytes, tags: dict) -> np.ndarray:
 
 
 def _value(value) -> float | None:
-    """A tag's number; tifffile gives one RATIONAL as a (numerator, denominator) tuple."""
+    """A tag's finite number; tifffile gives one (S)RATIONAL as a (numerator, denominator) tuple."""
     if isinstance(value, (tuple, list, np.ndarray)):
         value = np.ravel(value)
-        if value.size == 2 and value[1]:
-            value = value[0] / value[1]
+        if value.size == 2:
+            value = value[0] / value[1] if value[1] else None
         elif value.size:
             value = value[0]
         else:
@@ -296,23 +309,25 @@ def _value(value) -> float | None:
         number = float(value)
     except (TypeError, ValueError):
         return None
-    return number if np.isfinite(number) and number > 0 else None
+    return number if np.isfinite(number) else None
 
 
 def dng_metadata(tags: dict) -> PhotoMetadata:
     """Capture settings from the DNG's Exif tags (in IFD 0 as TIFF/EP allows, or the Exif IFD).
 
     ``white_balance`` is ``"none"``: glowtemp applies no white balance to raw data.
+    ``baseline_exposure_ev`` is BaselineExposure (DNG 1.6), None when missing or beyond
+    :data:`BASELINE_EXPOSURE_LIMIT_EV`; the exposure fields are as for other photos
+    (:func:`glowtemp.photo.exposure_fields`).
     """
-    iso = _value(tags.get(TAG_ISO))
+    baseline = _value(tags.get(TAG_BASELINE_EXPOSURE))
     return PhotoMetadata(
         white_balance="none",
-        exposure_time_s=_value(tags.get(TAG_EXPOSURE_TIME)),
-        iso=round(iso) if iso else None,
-        f_number=_value(tags.get(TAG_F_NUMBER)),
         camera_make=exif_text(tags.get(TAG_MAKE)),
         camera_model=exif_text(tags.get(TAG_MODEL)),
         taken_at=exif_time(tags.get(TAG_DATETIME_ORIGINAL)),
+        baseline_exposure_ev=baseline if baseline is not None and abs(baseline) <= BASELINE_EXPOSURE_LIMIT_EV else None,
+        **exposure_fields(lambda tag: _value(tags.get(tag))),
     )
 
 

@@ -17,7 +17,7 @@ from glowtemp.reading import measure
 from glowtemp.synthetic import exif_bytes, render_photo
 from glowtemp.synthetic_camera import ideal_camera
 
-from photo_files import exif_block
+from photo_files import exif_block, rational
 
 pillow_heif.register_heif_opener()
 LOSSLESS = {"quality": -1, "chroma": 444, "matrix_coefficients": 0}  # RGB kept exactly (H.273 MC 0)
@@ -90,6 +90,17 @@ def test_time_taken_is_read_from_heic_exif():
     exif = exif_block(exif_ifd={0x9003: "2025:02:03 19:45:10"})
     photo = load_photo(heic(rendered_p3().codes, exif=exif.tobytes()))
     assert photo.metadata.taken_at == datetime(2025, 2, 3, 19, 45, 10)
+
+
+def test_exposure_settings_are_read_from_heic_exif():
+    # Exif 2.32 (CIPA DC-008-2019): ExposureTime 0x829A, FNumber 0x829D, PhotographicSensitivity
+    # 0x8827, SensitivityType 0x8830 (1 = SOS), ExposureBiasValue 0x9204, CustomRendered 0xA401.
+    exif = exif_block(exif_ifd={0x829A: rational(1, 120), 0x829D: rational(16, 10), 0x8827: 50,
+                                0x8830: 1, 0x9204: rational(1, 3), 0xA401: 0})
+    meta = load_photo(heic(rendered_p3().codes, exif=exif.tobytes())).metadata
+    assert meta.exposure_time_s == pytest.approx(1 / 120) and meta.f_number == pytest.approx(1.6)
+    assert (meta.iso, meta.sensitivity_type, meta.custom_rendered) == (50, 1, 0)
+    assert meta.exposure_bias_ev == pytest.approx(1 / 3)
 
 
 def test_measuring_a_jpeg_loads_neither_libheif_nor_libraw():

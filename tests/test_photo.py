@@ -312,6 +312,73 @@ def test_exif_camera_settings_read_back(fmt):
     assert round_trip["taken_at"] == "2024-05-01T18:30:05" and round_trip["iso"] == 400
 
 
+# Exposure tags of the Exif IFD (Exif 2.32, CIPA DC-008-2019): ExposureTime 0x829A (RATIONAL, s),
+# FNumber 0x829D (RATIONAL), PhotographicSensitivity 0x8827 (SHORT), SensitivityType 0x8830
+# (SHORT; 1 = standard output sensitivity of ISO 12232), StandardOutputSensitivity 0x8831
+# (LONG), ExposureBiasValue 0x9204 (SRATIONAL, EV), CustomRendered 0xA401 (SHORT; 1 = custom).
+EXPOSURE_TAGS = {
+    0x829A: rational(1, 60), 0x829D: rational(18, 10), 0x8827: 640, 0x8830: 1, 0x8831: 640,
+    0x9204: rational(-2, 3), 0xA401: 1,
+}
+
+
+def with_exif_ifd(array, fmt, exif_ifd) -> bytes:
+    """A photo whose Exif IFD holds ``exif_ifd``; Pillow takes a TIFF's Exif IFD as ``tiffinfo``.
+
+    The EXIF goes as bytes: Pillow's PNG writer skips an Exif object with an empty IFD 0.
+    """
+    if fmt == "TIFF":
+        return saved(array, "TIFF", tiffinfo={0x8769: exif_ifd})
+    return saved(array, fmt, exif=exif_block(exif_ifd=exif_ifd).tobytes())
+
+
+@pytest.mark.parametrize("fmt", ["JPEG", "PNG", "TIFF"])
+def test_exposure_tags_read_back(fmt):
+    meta = load_photo(with_exif_ifd(random_rgb(), fmt, EXPOSURE_TAGS)).metadata
+    assert meta.exposure_time_s == pytest.approx(1 / 60)
+    assert meta.f_number == pytest.approx(1.8)
+    assert meta.iso == 640 and meta.standard_output_sensitivity == 640
+    assert meta.sensitivity_type == 1  # SOS
+    assert meta.exposure_bias_ev == pytest.approx(-2 / 3)
+    assert meta.custom_rendered == 1
+    round_trip = json.loads(json.dumps(meta.to_dict()))
+    assert round_trip["exposure_bias_ev"] == pytest.approx(-2 / 3) and round_trip["custom_rendered"] == 1
+
+
+def test_zero_exposure_compensation_is_a_value_not_a_gap():
+    meta = load_photo(with_exif_ifd(random_rgb(), "JPEG", {0x9204: rational(0, 1), 0xA401: 0})).metadata
+    assert meta.exposure_bias_ev == 0.0 and meta.custom_rendered == 0  # 0 EV; 0 = normal process
+
+
+@pytest.mark.parametrize(
+    ("tag", "value", "field"),
+    [
+        (0x829A, rational(-1, 250), "exposure_time_s"),  # negative (written as SRATIONAL)
+        (0x829A, rational(0, 1), "exposure_time_s"),  # zero
+        (0x829A, rational(0, 0), "exposure_time_s"),  # 0/0: not a number
+        (0x829A, rational(7200, 1), "exposure_time_s"),  # two hours: beyond the plausible hour
+        (0x829D, rational(0, 10), "f_number"),
+        (0x829D, rational(1, 0), "f_number"),  # infinite
+        (0x829D, rational(3, 10), "f_number"),  # f/0.3: no lens in air is faster than f/0.5
+        (0x8827, 0, "iso"),
+        (0x8831, 0, "standard_output_sensitivity"),
+        (0x9204, rational(0, 0), "exposure_bias_ev"),
+        (0x9204, rational(40, 1), "exposure_bias_ev"),  # +40 EV: no camera offers that
+        (0x8830, 9, "sensitivity_type"),  # Exif 2.32 defines 0 to 7
+    ],
+)
+def test_impossible_exposure_values_read_as_missing(tag, value, field):
+    meta = load_photo(with_exif_ifd(random_rgb(), "JPEG", {tag: value})).metadata
+    assert getattr(meta, field) is None
+
+
+def test_an_iso_above_the_short_tag_comes_from_standard_output_sensitivity():
+    # Exif 2.32: PhotographicSensitivity is 65535 when the value is higher; SensitivityType 1
+    # says the SOS tag holds it.
+    tags = {0x8827: 65535, 0x8830: 1, 0x8831: 102400}
+    assert load_photo(with_exif_ifd(random_rgb(), "JPEG", tags)).metadata.iso == 102400
+
+
 def test_manual_white_balance_and_missing_metadata():
     manual = exif_block(exif_ifd={0xA403: 1, 0x9003: "    :  :     :  :  "})  # blank date
     meta = load_photo(saved(random_rgb(), "JPEG", exif=manual)).metadata

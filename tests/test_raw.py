@@ -8,6 +8,7 @@ import colour
 import numpy as np
 import pytest
 import rawpy
+import tifffile
 
 from glowtemp.estimate import UNCALIBRATED
 from glowtemp.photo import PhotoError, load_photo, upright
@@ -17,6 +18,7 @@ from glowtemp.raw import (
     RAW_UNCALIBRATED,
     RawError,
     decode_table,
+    dng_metadata,
     encode_linear,
     illuminant_unstated,
     read_dng_header,
@@ -175,6 +177,81 @@ def test_capture_settings_come_from_ifd0_or_the_exif_ifd():
     # Phones put DateTimeOriginal in the Exif IFD (CIPA DC-008 tag 0x9003) rather than IFD 0.
     later = with_exif_ifd(encode_dng(rendered), {36867: "2025:05:18 06:30:00"})
     assert load_photo(later).metadata.taken_at == datetime(2025, 5, 18, 6, 30)
+
+
+def moved_to_exif_ifd(dng: bytes, codes) -> bytes:
+    """The DNG with the IFD 0 entries ``codes`` moved, as they are, into a new Exif IFD (34665).
+
+    An entry's value offset is from the start of the file, so the moved entries still point
+    at their values; IFD 0 is rewritten at the end of the file (TIFF 6.0 section 2).
+    """
+    order = "<"
+    (ifd0,) = struct.unpack_from(order + "I", dng, 4)
+    (count,) = struct.unpack_from(order + "H", dng, ifd0)
+    entries = [dng[ifd0 + 2 + 12 * i : ifd0 + 14 + 12 * i] for i in range(count)]
+    moved = [e for e in entries if struct.unpack_from(order + "H", e)[0] in codes]
+    kept = [e for e in entries if e not in moved]
+    out = bytearray(dng + b"\0" * (len(dng) % 2))
+    exif_at = len(out)
+    out += struct.pack(order + "H", len(moved)) + b"".join(moved) + struct.pack(order + "I", 0)
+    new_ifd0 = len(out)
+    kept.append(struct.pack(order + "HHII", 34665, 4, 1, exif_at))
+    kept.sort(key=lambda entry: struct.unpack_from(order + "H", entry)[0])
+    out += struct.pack(order + "H", len(kept)) + b"".join(kept) + struct.pack(order + "I", 0)
+    out[4:8] = struct.pack(order + "I", new_ifd0)
+    return bytes(out)
+
+
+# Exposure tags as a DNG keeps them (tifffile extratags: code, type, count, value), with the
+# tag numbers and types of Exif 2.32 (CIPA DC-008-2019) and, for BaselineExposure, DNG 1.6.
+EXPOSURE_EXTRATAGS = [
+    (33434, "2I", 1, (1, 15), True),  # ExposureTime 1/15 s, RATIONAL
+    (33437, "2I", 1, (4, 1), True),  # FNumber f/4, RATIONAL
+    (34855, "H", 1, 3200, True),  # PhotographicSensitivity (ISOSpeedRatings), SHORT
+    (34864, "H", 1, 1, True),  # SensitivityType 1: standard output sensitivity, SHORT
+    (34865, "I", 1, 3200, True),  # StandardOutputSensitivity, LONG
+    (37380, "2i", 1, (-1, 3), True),  # ExposureBiasValue -1/3 EV, SRATIONAL
+    (41985, "H", 1, 0, True),  # CustomRendered 0: normal process
+    (50730, "2i", 1, (-3, 4), True),  # BaselineExposure -0.75 EV, SRATIONAL (DNG 1.6)
+]
+
+
+def tiny_dng(extratags) -> bytes:
+    """A 16 x 16 CFA DNG header written by tifffile: DNGVersion, RGGB pattern and ``extratags``."""
+    out = io.BytesIO()
+    tags = [(50706, "B", 4, (1, 4, 0, 0), True), (33421, "H", 2, (2, 2), True),
+            (33422, "B", 4, (0, 1, 1, 2), True), *extratags]
+    tifffile.imwrite(out, np.zeros((16, 16), np.uint16), photometric=32803, extratags=tags)
+    return out.getvalue()
+
+
+@pytest.mark.parametrize("where", ["ifd0", "exif_ifd"])
+def test_dng_exposure_tags_and_baseline_exposure_read_back(where):
+    data = tiny_dng(EXPOSURE_EXTRATAGS)
+    if where == "exif_ifd":  # BaselineExposure is a DNG tag and stays in IFD 0
+        data = moved_to_exif_ifd(data, {33434, 33437, 34855, 34864, 34865, 37380, 41985})
+    meta = dng_metadata(read_dng_header(data)[0])
+    assert meta.exposure_time_s == pytest.approx(1 / 15) and meta.f_number == pytest.approx(4.0)
+    assert (meta.iso, meta.sensitivity_type, meta.standard_output_sensitivity) == (3200, 1, 3200)
+    assert meta.exposure_bias_ev == pytest.approx(-1 / 3)
+    assert meta.custom_rendered == 0
+    assert meta.baseline_exposure_ev == pytest.approx(-0.75)
+
+
+def test_dng_without_or_with_impossible_exposure_tags_reads_none():
+    bare = dng_metadata(read_dng_header(tiny_dng([]))[0]).to_dict()
+    assert bare.pop("white_balance") == "none"  # raw data get no white balance
+    assert set(bare.values()) == {None}
+    absurd = [
+        (33434, "2I", 1, (0, 1), True),  # ExposureTime 0 s
+        (33437, "2I", 1, (0, 0), True),  # FNumber 0/0
+        (34855, "H", 1, 0, True),  # ISO 0
+        (37380, "2i", 1, (0, 0), True),  # ExposureBiasValue 0/0
+        (50730, "2i", 1, (-100, 1), True),  # BaselineExposure -100 EV
+    ]
+    meta = dng_metadata(read_dng_header(tiny_dng(absurd))[0])
+    assert (meta.exposure_time_s, meta.f_number, meta.iso) == (None, None, None)
+    assert meta.exposure_bias_ev is None and meta.baseline_exposure_ev is None
 
 
 def test_the_warmer_calibration_illuminant_s_matrix_is_used_whatever_the_order():
