@@ -44,7 +44,8 @@ SIZE = (320, 240)
 def shoot(camera, temperature_c, seed):
     """One capture as (JPEG photo, DNG photo), same scene and exposure."""
     jpeg = render_photo(temperature_c + 273.15, camera=camera, size=SIZE, seed=seed)
-    raw = render_raw(temperature_c + 273.15, camera=camera, size=SIZE, seed=seed + 7919, exposure=jpeg.exposure)
+    raw = render_raw(temperature_c + 273.15, camera=camera, size=SIZE, seed=seed + 7919,
+                     exposure_time_s=jpeg.exposure_time_s, f_number=jpeg.f_number, iso=jpeg.iso)
     return load_photo(encode_jpeg(jpeg)), load_photo(encode_dng(raw))
 
 

@@ -120,8 +120,9 @@ def test_raw_measures_700_c_where_the_srgb_jpeg_of_the_same_capture_gives_only_a
     # the IEC 61966-2-1 matrix: blue negative below 1900 K, green below about 964 K): the JPEG's
     # green is clipped to a few codes, the raw file keeps it.
     truth_c = 700.0
-    jpeg = render_photo(truth_c + 273.15, camera=ideal_camera(), size=SIZE, white_balance=(1.0, 1.0, 1.0))
-    raw = capture(truth_c, exposure=jpeg.exposure)
+    jpeg = render_photo(truth_c + 273.15, camera=ideal_camera(), size=SIZE, white_balance=(1.0, 1.0, 1.0),
+                        tripod=True)  # ISO 50 on a tripod, not ISO 640 by hand
+    raw = capture(truth_c, exposure_time_s=jpeg.exposure_time_s, f_number=jpeg.f_number, iso=jpeg.iso)
     jpeg_reading = measure(load_photo(encode_jpeg(jpeg)))
     photo = load_photo(encode_dng(raw))
     reading = measure(photo, camera=uncalibrated_term(photo))
