@@ -42,8 +42,9 @@ SIZE = (320, 240)
 
 
 def shoot(camera, temperature_c, seed):
-    """One capture as (JPEG photo, DNG photo), same scene and exposure."""
-    jpeg = render_photo(temperature_c + 273.15, camera=camera, size=SIZE, seed=seed)
+    """One capture as (JPEG photo, DNG photo), same scene and exposure (on a tripod, so dull
+    glow gets a long exposure at low ISO rather than a dark frame)."""
+    jpeg = render_photo(temperature_c + 273.15, camera=camera, size=SIZE, seed=seed, tripod=True)
     raw = render_raw(temperature_c + 273.15, camera=camera, size=SIZE, seed=seed + 7919,
                      exposure_time_s=jpeg.exposure_time_s, f_number=jpeg.f_number, iso=jpeg.iso)
     return load_photo(encode_jpeg(jpeg)), load_photo(encode_dng(raw))
@@ -73,7 +74,8 @@ def raw_camera_term():
     for name, camera in BENCH_CAMERAS.items():
         ideal, recorded = [], []
         for temperature_c in range(500, 1451, 50):
-            raw = render_raw(temperature_c + 273.15, camera=camera, scene="uniform", size=(32, 32), noise=False)
+            raw = render_raw(temperature_c + 273.15, camera=camera, scene="uniform", size=(32, 32), noise=False,
+                             tripod=True)
             stats = region_statistics(load_photo(encode_dng(raw)), Rectangle(4, 4, 8, 8))
             recorded.append(stats.mean_linear[1] / stats.mean_linear[0])
             ideal.append(ideal_green_ratio(celsius_to_kelvin(temperature_c), RAW_SPACE)[0])
