@@ -204,7 +204,8 @@ def test_upload_too_large(tmp_path, two_halves_jpeg):
     from glowtemp.web import create_app
 
     app = create_app({"DATA_DIR": tmp_path, "MAX_CONTENT_LENGTH": 1024 * 1024})
-    response = post_photo(app.test_client(), two_halves_jpeg * 100)
+    too_large = two_halves_jpeg * (1024 * 1024 // len(two_halves_jpeg) + 1)  # just over 1 MB
+    response = post_photo(app.test_client(), too_large)
     assert response.status_code == 413 and "larger than 1 MB" in response.get_json()["error"]
 
 
