@@ -199,3 +199,64 @@ def test_a_photo_of_megabytes_with_line_breaks_in_its_bytes_is_not_a_long_text_f
     tail = b"".join(b"\r\n--" + os.urandom(500) for _ in range(4000))  # about 2 MB
     answer = web_client.post("/api/readings", data={"photo": (io.BytesIO(two_halves_jpeg + tail), "big.jpg")})
     assert answer.status_code == 201, answer.get_json()
+
+
+# Where the browser goes after pairing: only a path on this server, whatever "next" holds.
+# Browsers drop tabs and line breaks from addresses and read "\" as "/" (WHATWG URL Standard,
+# basic URL parser), so "/<TAB>/evil.example" would mean "//evil.example", another site.
+NEXT_CASES = [
+    ("tab between slashes", "/\t/evil.example"),
+    ("line break between slashes", "/\n/x"),
+    ("carriage return", "/\r/evil.example"),
+    ("two slashes", "//evil.example/"),
+    ("backslash", "/\\evil.example"),
+    ("a scheme", "https://evil.example/"),
+    ("javascript scheme", "javascript:alert(1)"),
+    ("a space before the slashes", " //evil.example"),
+    ("a relative path", "evil.example"),
+    ("percent-escaped slash then a slash", "/%2f/evil.example"),
+]
+
+
+@pytest.fixture
+def paired_web_app(tmp_path):
+    from glowtemp.web import create_app
+
+    return create_app({"DATA_DIR": tmp_path / "paired", "TESTING": True, "PAIRING": True})
+
+
+def _location_is_same_site(location: str) -> bool:
+    from urllib.parse import urlsplit
+
+    parts = urlsplit(location)
+    return (not parts.scheme and not parts.netloc and location.startswith("/") and not location.startswith("//")
+            and all(" " < ch < "\x7f" and ch != "\\" for ch in location))  # fmt: skip
+
+
+@pytest.mark.parametrize("name, target", NEXT_CASES, ids=[name for name, _ in NEXT_CASES])
+def test_after_pairing_next_never_leads_to_another_site(paired_web_app, name, target):
+    from urllib.parse import quote
+
+    pairing = paired_web_app.extensions["glowtemp"]["pairing"]
+    client = paired_web_app.test_client()
+    client.environ_base["REMOTE_ADDR"] = "127.0.0.2"
+    shown = client.get("/pair?next=" + quote(target, safe=""))
+    assert shown.status_code == 200, name
+    import html
+    import re
+
+    kept = re.search(r'name="next" value="([^"]*)"', shown.get_data(as_text=True)).group(1)
+    assert _location_is_same_site(html.unescape(kept)), kept
+    answer = client.post("/pair", data={"code": pairing.code, "next": target})
+    assert answer.status_code == 303, name
+    assert _location_is_same_site(answer.headers["Location"]), answer.headers["Location"]
+    # Once paired, /pair sends the browser on at once: the same rule holds there.
+    again = client.get("/pair?next=" + quote(target, safe=""))
+    assert again.status_code == 303 and _location_is_same_site(again.headers["Location"])
+
+
+def test_a_same_site_next_with_a_query_is_kept(paired_web_app):
+    pairing = paired_web_app.extensions["glowtemp"]["pairing"]
+    client = paired_web_app.test_client()
+    answer = client.post("/pair", data={"code": pairing.code, "next": "/firings/?unit=f"})
+    assert answer.headers["Location"] == "/firings/?unit=f"

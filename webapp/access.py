@@ -33,7 +33,8 @@ from __future__ import annotations
 import hashlib
 import hmac
 import ipaddress
-from urllib.parse import urlsplit
+import re
+from urllib.parse import urlsplit, urlunsplit
 
 from flask import Blueprint, current_app, g, jsonify, redirect, render_template, request, url_for
 from markupsafe import Markup, escape
@@ -47,6 +48,7 @@ SESSION_COOKIE = "glowtemp_session"
 SESSION_DAYS = 365
 TOKEN_HEADER = "X-CSRF-Token"
 TOKEN_FIELD = "csrf_token"
+LONGEST_NEXT = 2000  # characters of the address to go back to after pairing
 STATE_CHANGING = frozenset({"POST", "PUT", "PATCH", "DELETE"})
 OPEN_ENDPOINTS = frozenset({"static", "access.pair", "access.pair_device"})  # reachable unpaired
 NOT_PAIRED = (
@@ -149,11 +151,22 @@ def guard():
     return None
 
 
+# What a same-site path may hold, unescaped: RFC 3986's unreserved and sub-delims characters,
+# ":", "@", "/", "?" and "%" (of percent-escapes). No spaces, control characters or backslashes,
+# which browsers drop or turn into "/" (WHATWG URL) and so could make "/\t/x" mean "//x".
+PATH_CHARACTERS = re.compile(r"[A-Za-z0-9\-._~!$&'()*+,;=:@/?%]*")
+
+
 def _safe_next(target: str | None) -> str:
-    """A path on this server to go to after pairing (never another site)."""
-    if not target or not target.startswith("/") or target.startswith("//") or "\\" in target:
-        return url_for("measuring.index")
-    return target
+    """A path on this server to go to after pairing, rebuilt from its parsed parts; anything else
+    (another site, a scheme, odd characters) means the measuring page."""
+    home = url_for("measuring.index")
+    if not target or len(target) > LONGEST_NEXT or not PATH_CHARACTERS.fullmatch(target):
+        return home
+    parts = urlsplit(target)
+    if parts.scheme or parts.netloc or not parts.path.startswith("/") or parts.path.startswith("//"):
+        return home
+    return urlunsplit(("", "", parts.path, parts.query, ""))
 
 
 @blueprint.get("/pair")
