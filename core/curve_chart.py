@@ -45,6 +45,9 @@ FIGURE_SIZE_IN = (7.0, 5.2)  # the PNG, for a screen or paper
 WEB_FIGURE_SIZE_IN = (4.6, 5.0)  # the SVG, sized so its text stays readable on a phone
 
 _drawing = threading.Lock()
+# Names come from people ("$5 glaze", a cone "$6"): matplotlib would read text between dollar
+# signs as mathtext (matplotlib docs, "Writing mathematical expressions"); draw it literally.
+LITERAL_TEXT = {"text.parse_math": False}
 
 
 @dataclass(frozen=True)
@@ -179,14 +182,16 @@ def firing_chart_svg(points: list[CurvePoint], target_c=None, target_label=None,
     """The curve as an SVG element (no XML prolog), ready to place in a page."""
     import matplotlib
 
-    with _drawing, matplotlib.rc_context({"svg.fonttype": "none", "svg.hashsalt": "glowtemp-curve"}):
+    with _drawing, matplotlib.rc_context({"svg.fonttype": "none", "svg.hashsalt": "glowtemp-curve", **LITERAL_TEXT}):
         text = _render(_figure(points, target_c, target_label, unit, title, WEB_FIGURE_SIZE_IN), "svg").decode("utf-8")
     return text[text.index("<svg"):]
 
 
 def firing_chart_png(points: list[CurvePoint], target_c=None, target_label=None, unit: str = "C", title=None) -> bytes:
     """The curve as a PNG image."""
-    with _drawing:
+    import matplotlib
+
+    with _drawing, matplotlib.rc_context(LITERAL_TEXT):
         return _render(_figure(points, target_c, target_label, unit, title), "png")
 
 

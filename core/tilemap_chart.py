@@ -137,7 +137,11 @@ def draw_map(photo, tile_map, unit: str = "C", image_format: str = "png", title:
     """The map over the photo as PNG or SVG bytes; ``unit`` is "C" or "F"."""
     if image_format not in ("png", "svg"):
         raise ValueError(f"The map can be drawn as png or svg, not {image_format!r}.")
-    with _drawing:
+    import matplotlib
+
+    from .curve_chart import LITERAL_TEXT
+
+    with _drawing, matplotlib.rc_context(LITERAL_TEXT):
         figure = _figure(photo, tile_map, unit, title)
         out = io.BytesIO()
         figure.savefig(out, format=image_format, dpi=120)

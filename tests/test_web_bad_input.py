@@ -260,3 +260,36 @@ def test_a_same_site_next_with_a_query_is_kept(paired_web_app):
     client = paired_web_app.test_client()
     answer = client.post("/pair", data={"code": pairing.code, "next": "/firings/?unit=f"})
     assert answer.headers["Location"] == "/firings/?unit=f"
+
+
+# Text that matplotlib would read as mathtext between dollar signs (matplotlib documentation,
+# "Writing mathematical expressions"): names are drawn as typed, and the pages still answer.
+DOLLAR_NAMES = [
+    ("two prices", "$5 or $6 glaze", "$6$"),
+    ("an unclosed mathtext group", "test $^{$ glaze", "$^{6$"),
+    ("a bad mathtext command", r"$\frac{$ kiln", r"$\x{$"),
+]
+
+
+@pytest.mark.parametrize("name, text, cone", DOLLAR_NAMES, ids=[name for name, _, _ in DOLLAR_NAMES])
+def test_dollar_signs_in_firing_and_cone_names_are_drawn_literally(tmp_path, two_halves_jpeg, name, text, cone):
+    from glowtemp.cli import main
+    from glowtemp.web import create_app
+
+    data = tmp_path / "data"
+    data.mkdir()
+    (data / "cones.csv").write_text(f'cone,temperature_c\n"{cone}",1100\n', encoding="utf-8")
+    app = create_app({"DATA_DIR": data, "TESTING": True})
+    client = app.test_client()
+    firing = client.post("/api/firings", json={"name": text, "target_cone": cone}).get_json()["id"]
+    taken = client.post(f"/api/firings/{firing}/readings", data={"photo": (io.BytesIO(two_halves_jpeg), "a.jpg"),
+                        "cone": cone, "cone_state": "bent"})  # fmt: skip
+    assert taken.status_code == 201, taken.get_json()
+    page = client.get(f"/firings/{firing}")
+    assert page.status_code == 200
+    text_of_page = page.get_data(as_text=True)
+    chart = text_of_page[text_of_page.index("<svg"): text_of_page.index("</svg>")]
+    assert f"cone {cone}".replace("&", "&amp;") in chart  # the label as typed, one text element
+    curve = tmp_path / "curve.png"
+    assert main(["export", str(firing), "--curve", str(curve), "--data", str(data)]) == 0
+    assert curve.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
