@@ -21,7 +21,7 @@ import re
 from .curve import curve_start, elapsed_hours
 
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
-PLAIN_NUMBER = re.compile(r"-?\d+(\.\d+)?")
+PLAIN_NUMBER = re.compile(r"-?\d+(\.\d+)?", re.ASCII)  # digits 0-9 only: "-١٢" is text to a spreadsheet
 
 COLUMNS = (
     "reading_id", "taken_at", "elapsed_h", "photo_name", "photo_sha256", "status",

@@ -18,6 +18,7 @@ References
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -28,6 +29,9 @@ FILLED_FRAME = 0.5  # when even the dimmest 5 % is this bright (of the peak), gl
 MIN_GLOW_PX = 64  # a found area smaller than this is a speck, not the glow
 DIM_FRACTION = 0.2  # a photo whose brightest red stays below this share of full scale shows no glow
 LARGEST_COORDINATE_PX = 1_000_000  # far beyond any photo's side; keeps pixel arithmetic in int64
+# A number written with the ASCII digits 0-9 only: Python's float() also reads other scripts'
+# digits ("١٠") and underscores ("1_0"), which no region text needs.
+ASCII_NUMBER = re.compile(r"[+-]?(\d+\.?\d*|\.\d+)(e[+-]?\d+)?|[+-]?(nan|inf|infinity)", re.ASCII | re.IGNORECASE)
 
 
 class RegionError(ValueError):
@@ -82,6 +86,8 @@ def _integers(text: str, count: int, form: str) -> list[int]:
     if len(parts) != count:
         raise RegionError(f"A region needs {count} whole numbers as {form}; got {text!r}.")
     try:
+        if not all(ASCII_NUMBER.fullmatch(p) for p in parts):
+            raise ValueError("not written with the digits 0-9")
         values = [float(p) for p in parts]
     except ValueError:
         raise RegionError(f"A region needs whole numbers as {form}; got {text!r}.") from None

@@ -223,7 +223,8 @@ def test_csv_defuses_formulas_but_keeps_negative_numbers(log):
     assert rows[3]["reference_c"] == "-5.0" and rows[3]["note"] == "-5"
     assert ",-5.0," in text  # a number, written unquoted (RFC 4180 quoting only where text)
     # OWASP CSV injection: =, +, -, @, tab (0x09) and carriage return (0x0D) start formulas.
-    for dangerous in ("=1+1", "+1+1", "-1+1", "@SUM(A1)", "\tx", "\rx"):
+    # Digits of other scripts are text to a spreadsheet, not a number: "-١٢" (Arabic-Indic 12).
+    for dangerous in ("=1+1", "+1+1", "-1+1", "@SUM(A1)", "\tx", "\rx", "-\u0661\u0662", "-\u0967.\u0968"):
         assert neutralise_cell(dangerous) == "'" + dangerous
     for harmless in ("-12.5", "-3", "plain", "", 12.5, -7):
         assert neutralise_cell(harmless) == harmless

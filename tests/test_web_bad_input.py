@@ -81,6 +81,9 @@ CASES = [
     Case("circle with a huge radius", 400, "within", fields={"circle": "10,10,99999999999999999999"}),
     Case("circle of zero radius", 400, "positive radius", fields={"circle": "10,10,0"}),
     Case("circle with two numbers", 400, "3 whole numbers", fields={"circle": "50,50"}),
+    Case("region in Arabic-Indic digits", 400, "whole numbers", fields={"region": "١٠,٢٠,٣٠,٤٠"}),
+    Case("circle in full-width digits", 400, "whole numbers", fields={"circle": "１０,１０,５"}),
+    Case("region with underscores in numbers", 400, "whole numbers", fields={"region": "1_0,10,5,20"}),
     Case("region and circle both", 400, "not both", fields={"region": "1,1,5,5", "circle": "5,5,3"}),
     Case("region text of 60 KB", 400, "", fields={"region": "1," * 30_000}),
     # Profiles and firings
