@@ -154,6 +154,15 @@ def raw_calibration_unstated() -> Advice:
     )
 
 
+def incomplete_image() -> Advice:
+    return Advice(
+        "incomplete-image",
+        "Part of the photo's image data is missing (the file was cut short and the decoder "
+        "filled the rest with grey); the region may hold pixels that were never recorded.",
+        "Copy or send the original photo again, and check that the whole picture shows.",
+    )
+
+
 def outside_profile_span(span_c) -> Advice:
     return Advice(
         "outside-profile-span",

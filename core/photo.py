@@ -55,6 +55,7 @@ STORED_SUFFIXES = {"JPEG": ".jpg", "PNG": ".png", "TIFF": ".tif", "HEIC": ".heic
 MIN_SIDE_PX = 8
 ADOBE_RGB_GAMMA = 563 / 256  # Adobe RGB (1998) Color Image Encoding, section 4.3.1.2
 STRIP_BYTES = 2 << 20  # Pillow pixels are copied out in strips of about this size
+FILLED_BLOCK_PX = 16  # one minimum coded unit of a 4:2:0 JPEG (ITU-T T.81 A.2)
 
 TAG_ORIENTATION = 0x0112
 TAG_MAKE, TAG_MODEL = 0x010F, 0x0110
@@ -177,6 +178,8 @@ class Photo:
     ``"exif"``, ``"dng"`` (a raw file's colour matrix) or ``"assumed"``; ``profile_problem``
     says why an embedded profile was not used (then sRGB is assumed); ``matrix_illuminant_unstated``
     marks a raw file whose colour matrix names no calibration illuminant (see :mod:`glowtemp.raw`).
+    ``missing_data`` is True when the decoder filled in image data that the file lacks
+    (:func:`ends_in_filled_blocks`).
     """
 
     codes: np.ndarray
@@ -188,6 +191,7 @@ class Photo:
     format: str
     profile_problem: str | None = None
     matrix_illuminant_unstated: bool = False
+    missing_data: bool = False
 
     @property
     def width(self) -> int:
@@ -452,6 +456,19 @@ def _jpeg_pixels(data: bytes, image: Image.Image) -> np.ndarray | None:
     return pixels if pixels.shape == (height, width, 3) else None
 
 
+def ends_in_filled_blocks(codes: np.ndarray) -> bool:
+    """Whether a decoded JPEG's last block is what the decoder makes of missing data.
+
+    When the entropy-coded data ends early (a file cut short, even with its EOI marker put
+    back), libjpeg warns "premature end of data segment" and decodes the remaining blocks with
+    all coefficients zero: after the level shift of ITU-T T.81 A.3.1 that is exactly code 128
+    in every pixel and channel. The block decoded last (bottom right, as stored) is checked;
+    a camera's sensor noise never leaves a 16 x 16 patch at exactly one value.
+    """
+    corner = codes[-FILLED_BLOCK_PX:, -FILLED_BLOCK_PX:]
+    return bool(corner.size) and bool((corner == 128).all())
+
+
 def _tiff16_pixels(data: bytes) -> np.ndarray:
     """16-bit TIFF pixels with tifffile (TIFF 6.0): (H, W, 3) uint16."""
     import tifffile
@@ -571,6 +588,7 @@ def load_photo(source, *, max_pixels: int = 50_000_000) -> Photo:
     finally:
         image.close()  # frees Pillow's pixel memory now (leaving a `with` block does not)
     max_code = 65535 if codes.dtype == np.uint16 else 255
+    missing = fmt == "JPEG" and ends_in_filled_blocks(codes)  # as stored, before turning upright
     orientation = base.get(TAG_ORIENTATION, 1)
     if orientation != 1:
         codes = np.ascontiguousarray(upright(codes, orientation))
@@ -585,4 +603,5 @@ def load_photo(source, *, max_pixels: int = 50_000_000) -> Photo:
         metadata=_metadata(base, exif_ifd),
         format=fmt,
         profile_problem=problem,
+        missing_data=missing,
     )

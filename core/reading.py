@@ -142,6 +142,8 @@ def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -
         found.append(advice.colour_profile_problem(photo.profile_problem))
     if photo.matrix_illuminant_unstated:
         found.append(advice.raw_calibration_unstated())
+    if photo.missing_data:
+        found.append(advice.incomplete_image())
     if photo.metadata.white_balance == "auto":
         found.append(advice.auto_white_balance())
     if stats.pixels_total and stats.pixels_clipped / stats.pixels_total > advice.CLIPPED_SHARE_WARN:

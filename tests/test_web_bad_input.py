@@ -296,3 +296,24 @@ def test_dollar_signs_in_firing_and_cone_names_are_drawn_literally(tmp_path, two
     curve = tmp_path / "curve.png"
     assert main(["export", str(firing), "--curve", str(curve), "--data", str(data)]) == 0
     assert curve.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+# Photos that are measured but must say what is wrong with them.
+def cut_with_end_marker(photo: bytes) -> bytes:
+    """A third of a JPEG with its end-of-image marker put back (ITU-T T.81 B.2.1: EOI is FFD9)."""
+    return photo[: len(photo) // 3] + b"\xff\xd9"
+
+
+WARNED_CASES = [
+    ("JPEG cut to a third with its end marker appended", cut_with_end_marker, "incomplete-image"),
+]
+
+
+@pytest.mark.parametrize("name, damage, code", WARNED_CASES, ids=[name for name, _, _ in WARNED_CASES])
+def test_a_damaged_photo_that_still_decodes_carries_a_warning(web_client, two_halves_jpeg, name, damage, code):
+    answer = web_client.post("/api/readings", data={"photo": (io.BytesIO(damage(two_halves_jpeg)), "a.jpg"),
+                                                    "region": "0,0,100,100"})  # fmt: skip
+    assert answer.status_code == 201, answer.get_json()
+    assert code in [warning["code"] for warning in answer.get_json()["warnings"]]
+    whole = web_client.post("/api/readings", data={"photo": (io.BytesIO(two_halves_jpeg), "b.jpg")})
+    assert code not in [warning["code"] for warning in whole.get_json()["warnings"]]
