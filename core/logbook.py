@@ -206,7 +206,7 @@ class Logbook:
         )
         return [dict(row) for row in rows]
 
-    def update_firing(self, firing_id: int, **changes) -> dict:
+    def update_firing(self, firing_id: int, /, **changes) -> dict:
         """Change a firing's fields (name, kiln, kind, target_c, target_cone, started_at, notes, status)."""
         values = _firing_values(self._known_cones(), **changes)
         with self._write() as db:
@@ -355,7 +355,7 @@ class Logbook:
         values = {"result_json": self._result_json(result), **result_columns(result)}
         return self._update_reading(reading_id, values)
 
-    def update_reading(self, reading_id: int, **trusted_fields) -> dict:
+    def update_reading(self, reading_id: int, /, **trusted_fields) -> dict:
         """Change trusted values: reference_c, cone, cone_state, note, taken_at (or firing_id)."""
         values = self._trusted_values(**trusted_fields)
         return self._update_reading(reading_id, values)

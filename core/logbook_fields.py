@@ -22,10 +22,25 @@ HIGHEST_C = 3000.0  # far above any kiln or forge; guards against typing mistake
 LONGEST_NAME = 200
 LONGEST_NOTE = 5000
 UPLOAD_ID_PATTERN = re.compile(r"[A-Za-z0-9_-]{16,64}")
+# Times a firing can have happened at: wide, yet far from the ends of Python's calendar (years
+# 1 and 9999), where turning a time to UTC or to local time would overflow.
+EARLIEST = datetime(1900, 1, 1, tzinfo=timezone.utc)
+LATEST = datetime(3000, 1, 1, tzinfo=timezone.utc)
+SHOWN_CHARACTERS = 40  # of a refused value, in a message
 
 
 class LogbookError(ValueError):
     """A request the firing log cannot carry out, with the reason in plain words."""
+
+
+def shown(value) -> str:
+    """A refused value as a message shows it: its repr, cut short (a 400-digit number is not repeated).
+
+    >>> shown("hot"), shown(10**100)[:12]
+    ("'hot'", '100000000000')
+    """
+    text = repr(value)
+    return text if len(text) <= SHOWN_CHARACTERS else text[: SHOWN_CHARACTERS - 1] + "…"
 
 
 def utc_now() -> str:
@@ -44,11 +59,19 @@ def time_text(value, what: str = "time") -> str:
         except ValueError:
             raise LogbookError(
                 f"The {what} must be a date and time like 2024-03-01T18:30 or "
-                f"2024-03-01T18:30:00+01:00; got {value!r}."
+                f"2024-03-01T18:30:00+01:00; got {shown(value)}."
             ) from None
     if not isinstance(value, datetime):
-        raise LogbookError(f"The {what} must be a date and time; got {value!r}.")
-    return value.astimezone(timezone.utc).isoformat(timespec="seconds")
+        raise LogbookError(f"The {what} must be a date and time; got {shown(value)}.")
+    try:
+        utc = value.astimezone(timezone.utc)
+    except (OverflowError, ValueError):
+        utc = None
+    if utc is None or not EARLIEST <= utc < LATEST:
+        raise LogbookError(
+            f"The {what} must lie between the years {EARLIEST.year} and {LATEST.year - 1}; got {shown(value.isoformat())}."
+        )
+    return utc.isoformat(timespec="seconds")
 
 
 def text(value, what: str, longest: int = LONGEST_NAME, required: bool = False) -> str | None:
@@ -58,10 +81,14 @@ def text(value, what: str, longest: int = LONGEST_NAME, required: bool = False) 
             raise LogbookError(f"A {what} is needed.")
         return None
     if not isinstance(value, str):
-        raise LogbookError(f"The {what} must be text; got {value!r}.")
+        raise LogbookError(f"The {what} must be text; got {shown(value)}.")
     value = value.strip()
     if len(value) > longest:
         raise LogbookError(f"The {what} is {len(value)} characters long; at most {longest} fit.")
+    try:
+        value.encode("utf-8")
+    except UnicodeEncodeError:  # a lone surrogate (U+D800-U+DFFF) is no character (RFC 3629)
+        raise LogbookError(f"The {what} holds a lone surrogate, which is not a character; type it again.") from None
     return value
 
 
@@ -70,13 +97,15 @@ def temperature_c(value, what: str) -> float | None:
     if value is None or (isinstance(value, str) and not value.strip()):
         return None
     if isinstance(value, bool):
-        raise LogbookError(f"The {what} must be a number of °C; got {value!r}.")
+        raise LogbookError(f"The {what} must be a number of °C; got {shown(value)}.")
     try:
         number = float(value)
     except (TypeError, ValueError):
-        raise LogbookError(f"The {what} must be a number of °C; got {value!r}.") from None
+        raise LogbookError(f"The {what} must be a number of °C; got {shown(value)}.") from None
+    except OverflowError:  # an integer beyond a float's range
+        number = math.inf
     if not math.isfinite(number) or not LOWEST_C <= number <= HIGHEST_C:
-        raise LogbookError(f"The {what} must lie between {LOWEST_C} and {HIGHEST_C:g} °C; got {value!r}.")
+        raise LogbookError(f"The {what} must lie between {LOWEST_C} and {HIGHEST_C:g} °C; got {shown(value)}.")
     return number
 
 
@@ -115,6 +144,6 @@ def upload_id(value) -> str | None:
 
 
 def choice(value, allowed: tuple, what: str) -> str:
-    if value not in allowed:
-        raise LogbookError(f"The {what} must be one of {', '.join(allowed)}; got {value!r}.")
+    if not isinstance(value, str) or value not in allowed:
+        raise LogbookError(f"The {what} must be one of {', '.join(allowed)}; got {shown(value)}.")
     return value

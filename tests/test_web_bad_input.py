@@ -317,3 +317,46 @@ def test_a_damaged_photo_that_still_decodes_carries_a_warning(web_client, two_ha
     assert code in [warning["code"] for warning in answer.get_json()["warnings"]]
     whole = web_client.post("/api/readings", data={"photo": (io.BytesIO(two_halves_jpeg), "b.jpg")})
     assert code not in [warning["code"] for warning in whole.get_json()["warnings"]]
+
+
+# JSON bodies that once reached a traceback: each a 400 in plain words, the firing unchanged.
+FOUR_HUNDRED_DIGITS = "9" * 400
+JSON_CASES = [
+    ("PATCH with a reserved key firing_id", "patch", "/api/firings/{id}", '{"firing_id": 1}', "firing_id"),
+    ("PATCH with a reserved key self", "patch", "/api/firings/{id}", '{"self": 1}', "self"),
+    ("PATCH with an unknown key", "patch", "/api/firings/{id}", '{"colour": "red", "name": "x"}', "colour"),
+    ("400-digit target_c", "post", "/api/firings", '{"name": "x", "target_c": %s}' % FOUR_HUNDRED_DIGITS, "digits"),
+    ("400-digit target_f", "post", "/api/firings", '{"name": "x", "target_f": %s}' % FOUR_HUNDRED_DIGITS, "digits"),
+    ("400-digit target_f as text", "post", "/api/firings", '{"name": "x", "target_f": "%s"}' % FOUR_HUNDRED_DIGITS, "between"),
+    ("400-digit reference_c", "patch", "/api/firings/{id}/readings/{rid}", '{"reference_c": %s}' % FOUR_HUNDRED_DIGITS, "digits"),
+    ("400-digit reference_c as text", "patch", "/api/firings/{id}/readings/{rid}",
+     '{"reference_c": "%s"}' % FOUR_HUNDRED_DIGITS, "between"),
+    ("started_at at the calendar's start", "patch", "/api/firings/{id}", '{"started_at": "0001-01-01T00:00:00+01:00"}', "years"),
+    ("started_at at the calendar's end", "post", "/api/firings", '{"name": "x", "started_at": "9999-12-31T23:59:59-01:00"}', "years"),
+    ("taken_at at the calendar's start", "patch", "/api/firings/{id}/readings/{rid}", '{"taken_at": "0001-01-01T00:00:00+01:00"}', "years"),
+    ("taken_at at the calendar's end", "patch", "/api/firings/{id}/readings/{rid}", '{"taken_at": "9999-12-31T23:59:59-01:00"}', "years"),
+    ("a lone surrogate in a new firing's name", "post", "/api/firings", '{"name": "\\ud800"}', "surrogate"),
+    ("a lone surrogate in a changed name", "patch", "/api/firings/{id}", '{"name": "kiln \\udfff"}', "surrogate"),
+    ("a lone surrogate in a key", "patch", "/api/firings/{id}", '{"\\ud800": 1}', "surrogate"),
+    ("a lone surrogate in a note", "patch", "/api/firings/{id}/readings/{rid}", '{"note": "\\ud800"}', "surrogate"),
+    ("50,000 nested [", "post", "/api/firings", "[" * 50_000, "nests"),
+    ("50,000 nested [ in a PATCH", "patch", "/api/firings/{id}", '{"name": ' + "[" * 50_000, "nests"),
+    ("NaN as a temperature", "post", "/api/firings", '{"name": "x", "target_c": NaN}', "not a json number"),
+    ("true as a temperature in °F", "post", "/api/firings", '{"name": "x", "target_f": true}', "number of °F"),
+    ("not UTF-8", "post", "/api/firings", b'{"name": "\xff\xfe"}', "utf-8"),
+    ("a region as 50,000 nested [", "post", "/api/readings/{rid}/region", "[" * 50_000, "nests"),
+]
+
+
+@pytest.mark.parametrize("name, method, url, body, words", JSON_CASES, ids=[case[0] for case in JSON_CASES])
+def test_bad_json_is_refused_plainly_and_changes_nothing(web_app, web_client, two_halves_jpeg, name, method, url, body, words):
+    firing = web_client.post("/api/firings", json={"name": "Kept", "target_c": 1222}).get_json()["id"]
+    reading = web_client.post(f"/api/firings/{firing}/readings", data={"photo": (io.BytesIO(two_halves_jpeg), "a.jpg"),
+                              "reference_c": "1200"}).get_json()["id"]  # fmt: skip
+    before = web_client.get(f"/api/firings/{firing}").get_json()
+    answer = getattr(web_client, method)(url.format(id=firing, rid=reading), data=body, content_type="application/json")
+    assert answer.status_code == 400, (answer.status_code, answer.get_data(as_text=True)[:300])
+    message = answer.get_json()["error"]
+    assert words.lower() in message.lower() and 10 < len(message) < 600
+    assert web_client.get(f"/api/firings/{firing}").get_json() == before
+    assert len(web_app.extensions["glowtemp"]["logbook"].list_firings()) == 1

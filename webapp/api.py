@@ -28,6 +28,7 @@ from flask import Blueprint, current_app, jsonify, request, send_file, url_for
 
 from .access import TOKEN_FIELD
 from .errors import ApiError
+from .json_body import json_object
 from .uploads import measure_photo, profile_from, region_from, stored_photo, take_upload
 
 blueprint = Blueprint("api", __name__, url_prefix="/api")
@@ -45,9 +46,7 @@ def _services():
 def request_fields() -> dict:
     """The request's text fields, from a JSON body or a form."""
     if request.is_json:
-        body = request.get_json(silent=True)
-        if not isinstance(body, dict):
-            raise ApiError("The request body must be a JSON object such as {\"region\": \"10,10,50,50\"}.")
+        body = json_object('{"region": "10,10,50,50"}')
         return {key: "" if value is None else str(value) for key, value in body.items()}
     return {key: value for key, value in request.form.items() if key != TOKEN_FIELD}
 

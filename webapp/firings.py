@@ -34,6 +34,7 @@ from flask import Blueprint, current_app, jsonify, redirect, render_template, re
 from .access import TOKEN_FIELD
 from .errors import ApiError
 from .inline_svg import presentation_attributes
+from .json_body import json_object
 from .uploads import take_upload
 
 blueprint = Blueprint("firings", __name__)
@@ -73,10 +74,7 @@ def _logbook_call(call, *args, **kwargs):
 def _fields() -> dict:
     """Request fields from a JSON object or a form; empty form fields count as not given."""
     if request.is_json:
-        body = request.get_json(silent=True)
-        if not isinstance(body, dict):
-            raise ApiError('The request body must be a JSON object such as {"name": "Cone 6 glaze"}.')
-        return body
+        return json_object('{"name": "Cone 6 glaze"}')
     return {key: value for key, value in request.form.items() if value.strip() and key != TOKEN_FIELD}
 
 
@@ -96,12 +94,15 @@ def _firing_fields(fields: dict, every_field: bool) -> dict:
 
 
 def _celsius_from_f(value, what: str) -> float:
+    from glowtemp.logbook_fields import shown
     from glowtemp.scales import fahrenheit_to_celsius
 
     try:
+        if isinstance(value, bool):
+            raise TypeError("true and false are not temperatures")
         return fahrenheit_to_celsius(float(value))
-    except (TypeError, ValueError):
-        raise ApiError(f"The {what} must be a number of °F; got {value!r}.") from None
+    except (TypeError, ValueError, OverflowError):
+        raise ApiError(f"The {what} must be a number of °F; got {shown(value)}.") from None
 
 
 def _trusted_fields(fields: dict) -> dict:
@@ -324,10 +325,14 @@ def api_get(firing_id: int):
 @blueprint.patch("/api/firings/<int:firing_id>")
 def api_update(firing_id: int):
     _firing(firing_id)
-    fields = _fields()
     if not request.is_json:
         raise ApiError('Send the changes as a JSON object such as {"status": "closed"}.')
-    return jsonify(_logbook_call(_log().update_firing, firing_id, **fields))
+    fields = _fields()
+    allowed = set(FIRING_FIELDS) | {"target_f"}
+    unknown = sorted(set(fields) - allowed)
+    if unknown:
+        raise ApiError(f"A firing has no field {', '.join(unknown)}; its fields are {', '.join(sorted(allowed))}.")
+    return jsonify(_logbook_call(_log().update_firing, firing_id, **_firing_fields(fields, every_field=False)))
 
 
 @blueprint.delete("/api/firings/<int:firing_id>")

@@ -1,0 +1,94 @@
+"""Reading a request's JSON body: one object of plain values, or a 400 in plain words.
+
+JSON text is UTF-8 (RFC 8259, section 8.1). Before parsing, the body's nesting is measured
+without recursion, so "[[[[..." cannot exhaust Python's stack; integers are held to
+:data:`LONGEST_INTEGER` digits and the non-standard ``NaN`` and ``Infinity`` are refused
+(RFC 8259, section 6, has no such numbers); every text, key or value, must be Unicode scalar
+values (a lone surrogate such as ``"\\ud800"`` is valid JSON escape syntax but cannot be
+stored as UTF-8, RFC 3629).
+"""
+
+from __future__ import annotations
+
+import json
+
+from flask import request
+
+from .errors import ApiError
+
+DEEPEST_NESTING = 8  # a request object holds plain values; a list or two is plenty
+LONGEST_INTEGER = 30  # digits: far beyond any temperature, id or count
+
+
+def nesting_depth(text: str) -> int:
+    """The deepest nesting of ``[`` and ``{`` outside strings, counted without recursion.
+
+    >>> nesting_depth('{"a": [1, {"b": "[[["}]}')
+    3
+    """
+    depth = deepest = 0
+    in_string = escaped = False
+    for ch in text:
+        if in_string:
+            if escaped:
+                escaped = False
+            elif ch == "\\":
+                escaped = True
+            elif ch == '"':
+                in_string = False
+        elif ch == '"':
+            in_string = True
+        elif ch in "[{":
+            depth += 1
+            deepest = max(deepest, depth)
+        elif ch in "]}":
+            depth -= 1
+    return deepest
+
+
+def _integer(text: str) -> int:
+    if len(text.lstrip("-")) > LONGEST_INTEGER:
+        raise ApiError(f"A number in the request has {len(text.lstrip('-'))} digits; at most {LONGEST_INTEGER} make sense here.")
+    return int(text)
+
+
+def _no_constant(name: str):
+    raise ApiError(f"The request holds {name}, which is not a JSON number; send a plain number.")
+
+
+def _check_text(value) -> None:
+    """Refuse text that is not Unicode scalar values, anywhere in a parsed value."""
+    pending = [value]
+    while pending:
+        item = pending.pop()
+        if isinstance(item, dict):
+            pending.extend(item.keys())
+            pending.extend(item.values())
+        elif isinstance(item, list):
+            pending.extend(item)
+        elif isinstance(item, str):
+            try:
+                item.encode("utf-8")
+            except UnicodeEncodeError:
+                raise ApiError(
+                    "The request holds text with a lone surrogate (such as \\ud800), which is not a "
+                    "character; send plain Unicode text."
+                ) from None
+
+
+def json_object(example: str) -> dict:
+    """The request's JSON body as a dict; ``example`` shows a right body in the error message."""
+    try:
+        text = request.get_data(cache=True).decode("utf-8")
+    except UnicodeDecodeError:
+        raise ApiError("The request body is not UTF-8 text; JSON must be sent as UTF-8.") from None
+    if nesting_depth(text) > DEEPEST_NESTING:
+        raise ApiError(f"The request body nests lists or objects more than {DEEPEST_NESTING} deep; send a flat JSON object.")
+    try:
+        body = json.loads(text, parse_int=_integer, parse_constant=_no_constant)
+    except ValueError as error:
+        raise ApiError(f"The request body is not valid JSON ({error}); send a JSON object such as {example}.") from None
+    if not isinstance(body, dict):
+        raise ApiError(f"The request body must be a JSON object such as {example}.")
+    _check_text(body)
+    return body
