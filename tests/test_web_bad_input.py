@@ -360,3 +360,34 @@ def test_bad_json_is_refused_plainly_and_changes_nothing(web_app, web_client, tw
     assert words.lower() in message.lower() and 10 < len(message) < 600
     assert web_client.get(f"/api/firings/{firing}").get_json() == before
     assert len(web_app.extensions["glowtemp"]["logbook"].list_firings()) == 1
+
+
+def test_many_addresses_cannot_share_the_guessing_of_one_code(paired_web_app):
+    from glowtemp.web.pairing import CODE_WRONG_TRIES, WRONG_TRIES, PairingCodes
+
+    now = [1000.0]
+    printed = []
+    pairing = PairingCodes(on_new_code=printed.append, clock=lambda: now[0])
+    paired_web_app.extensions["glowtemp"]["pairing"] = pairing
+    first = pairing.code
+    wrong = "0" * 8 if first != "0" * 8 else "1" * 8
+    sent = 0
+    for number in range(2, 100):  # many loopback addresses, each staying under its own limit
+        client = paired_web_app.test_client()
+        client.environ_base["REMOTE_ADDR"] = f"127.0.0.{number}"
+        for _ in range(WRONG_TRIES - 1):
+            if sent == CODE_WRONG_TRIES:
+                break
+            assert client.post("/pair", data={"code": wrong}).status_code == 403
+            sent += 1
+        if sent == CODE_WRONG_TRIES:
+            break
+    assert printed == [pairing.code] and pairing.code != first  # retired, and a new code printed
+    late = paired_web_app.test_client()
+    late.environ_base["REMOTE_ADDR"] = "127.0.1.1"  # a fresh address, with the old code
+    answer = late.post("/pair", data={"code": first})
+    assert answer.status_code == 429 and "new code" in answer.get_data(as_text=True)
+    assert late.post("/pair", data={"code": pairing.code}).status_code == 429  # everyone waits
+    now[0] += pairing.retired_pause_s + 1
+    assert late.post("/pair", data={"code": first}).status_code == 403  # the old code is gone
+    assert late.post("/pair", data={"code": pairing.code}).status_code == 303

@@ -190,7 +190,10 @@ def pair_device():
         paired = pairing.attempt(address, request.form.get("code", ""))
     except PairingLocked as locked:
         minutes = max(1, round(locked.retry_after_s / 60))
-        problem = f"Too many wrong codes from this device. Try again in about {minutes} minute{'s' * (minutes != 1)}."
+        wait = f"Try again in about {minutes} minute{'s' * (minutes != 1)}"
+        problem = (f"Too many wrong codes were sent to this server, so its code was replaced: {wait}, "
+                   "with the new code that glowtemp serve shows." if locked.everyone
+                   else f"Too many wrong codes from this device. {wait}.")  # fmt: skip
         page = render_template("pair.html", code="", next=target, problem=problem)
         return page, 429, {"Retry-After": str(int(locked.retry_after_s) + 1)}
     if not paired:
