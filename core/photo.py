@@ -41,18 +41,19 @@ import zlib
 from dataclasses import dataclass
 from datetime import datetime
 from functools import lru_cache
-from pathlib import Path
 
 import numpy as np
 from PIL import Image, UnidentifiedImageError
 
 from .colourspaces import ADOBE_RGB, DISPLAY_P3, SRGB, RGBSpace, gamma_decode, srgb_decode
 from .icc import IccError, parse_icc_profile
+from .regular_file import FileRefused, read_regular_file, size_text
 
 READABLE = "JPEG, PNG, TIFF, HEIC or DNG"
 # The file suffix a stored copy of each decoded format gets (chosen from content, never a client name).
 STORED_SUFFIXES = {"JPEG": ".jpg", "PNG": ".png", "TIFF": ".tif", "HEIC": ".heic", "DNG": ".dng"}
 MIN_SIDE_PX = 8
+LARGEST_FILE_BYTES = 200 * 1024 * 1024  # a photo file read from disk (a 100 MP raw file fits)
 ADOBE_RGB_GAMMA = 563 / 256  # Adobe RGB (1998) Color Image Encoding, section 4.3.1.2
 STRIP_BYTES = 2 << 20  # Pillow pixels are copied out in strips of about this size
 FILLED_BLOCK_PX = 16  # one minimum coded unit of a 4:2:0 JPEG (ITU-T T.81 A.2)
@@ -248,18 +249,22 @@ def upright(codes: np.ndarray, orientation: int) -> np.ndarray:
 # --- reading the container -----------------------------------------------------------------
 
 
-def _read_bytes(source) -> bytes:
+def _read_bytes(source, max_bytes: int) -> bytes:
     if isinstance(source, (str, os.PathLike)):
         try:
-            data = Path(source).read_bytes()
+            data = read_regular_file(source, max_bytes, "photo file")
+        except FileRefused as error:
+            raise PhotoError(str(error)) from None
         except OSError as error:
             raise PhotoError(f"The file {os.fspath(source)} could not be read ({error.strerror}).") from error
     elif isinstance(source, (bytes, bytearray, memoryview)):
         data = bytes(source)
     elif hasattr(source, "read"):
-        data = source.read()
+        data = source.read(max_bytes + 1)
         if not isinstance(data, bytes):
             raise TypeError("load_photo needs a file opened in binary mode")
+        if len(data) > max_bytes:
+            raise PhotoError(f"The photo file is larger than {size_text(max_bytes)}; it is not read.")
     else:
         raise TypeError(f"load_photo needs a path, bytes or a binary file, not {type(source).__name__}")
     if not data:
@@ -560,7 +565,7 @@ def _colour_encoding(icc_bytes, exif_ifd: dict, interop: dict, max_code: int, nc
 # --- the whole decode ----------------------------------------------------------------------
 
 
-def load_photo(source, *, max_pixels: int = 50_000_000) -> Photo:
+def load_photo(source, *, max_pixels: int = 50_000_000, max_bytes: int = LARGEST_FILE_BYTES) -> Photo:
     """Decode a JPEG, PNG, TIFF, HEIC or DNG photo to upright integer codes and a linearisation table.
 
     ``source`` is a path, the file's bytes, or a binary file object; the type is decided by
@@ -570,9 +575,10 @@ def load_photo(source, *, max_pixels: int = 50_000_000) -> Photo:
 
     Raises :class:`PhotoError` with a plain-words reason for anything that is not a usable
     still photo: empty, truncated, damaged, not an image, CMYK, animated or multi-page, larger
-    than ``max_pixels`` (checked from the header, before decoding) or smaller than 8 x 8.
+    than ``max_pixels`` (checked from the header, before decoding) or smaller than 8 x 8. A
+    named file must be a regular file of at most ``max_bytes`` (:mod:`glowtemp.regular_file`).
     """
-    data = _read_bytes(source)
+    data = _read_bytes(source, max_bytes)
     if data[:2] in TIFF_BYTE_ORDERS:
         from .raw import is_dng, load_dng  # here, not at the top: raw builds on this module
 

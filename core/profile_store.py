@@ -21,19 +21,25 @@ from pathlib import Path
 import numpy as np
 
 from .cones import CONE_SIGMA_C, ConeError, cone_temperature_c
+from .locus import blackbody_table, locus_ratios
 from .profile import (
     CameraProfile,
     Pair,
     ProfileError,
     fit_profile,
     fit_ratio_map,
+    ideal_green_ratio,
     pair_green_ratio,
     thermocouple_sigma_c,
 )
+from .scales import celsius_to_kelvin
+from .regular_file import FileRefused, read_regular_file
 
 PLAUSIBLE_REFERENCE_C = (400.0, 1800.0)
 WILD_RESIDUAL_C = 150.0  # a pair this far off a fit of the others is refused as a mistake (noisy
 # low-heat pairs of real cameras missed by up to ~100 °C in bench/accuracy.py, typos by more)
+MOST_PAIRS = 1000  # rows of a pairs file
+LARGEST_PAIRS_FILE_BYTES = 1024 * 1024  # a pairs CSV of MOST_PAIRS rows is well under 100 KB
 NAME_PATTERN = re.compile(r"^[A-Za-z0-9][A-Za-z0-9 _.\-]{0,59}$")
 
 
@@ -133,13 +139,15 @@ def read_pairs(csv_path: Path, data_dir: Path):
 
     Raises :class:`ProfileError` naming the row for any problem; nothing is written.
     """
-    from .photo import PhotoError, load_photo
+    from .photo import LARGEST_FILE_BYTES, PhotoError, load_photo
     from .reading import measure
     from .region import RegionError, parse_region
 
     csv_path = Path(csv_path)
     try:
-        text = csv_path.read_text(encoding="utf-8-sig")
+        text = read_regular_file(csv_path, LARGEST_PAIRS_FILE_BYTES, "pairs file").decode("utf-8-sig")
+    except FileRefused as error:
+        raise ProfileError(str(error)) from None
     except (OSError, UnicodeDecodeError) as error:
         raise ProfileError(f"Cannot read the pairs file {csv_path}: {error}") from None
     reader = csv.DictReader(text.splitlines())
@@ -149,15 +157,23 @@ def read_pairs(csv_path: Path, data_dir: Path):
             "The pairs file needs a header with the columns photo and reference_c (or cone), "
             f"optionally region; it has: {', '.join(sorted(columns)) or 'no header'}."
         )
+    rows = list(reader)
+    if len(rows) > MOST_PAIRS:
+        raise ProfileError(
+            f"The pairs file has {len(rows)} rows; a profile takes at most {MOST_PAIRS} (a few dozen "
+            "pairs across the working heats are plenty): split the file or leave rows out."
+        )
     pairs, seen, camera, space = [], {}, None, None
-    for number, row in enumerate(reader, start=2):
+    for number, row in enumerate(rows, start=2):
         name = (row.get("photo") or "").strip()
         if not name:
             raise ProfileError(f"Row {number}: the photo column is empty.")
         reference_c, sigma_c, kind, cone = _reference(row, number, data_dir)
         path = (csv_path.parent / name).resolve()
         try:
-            data = path.read_bytes()
+            data = read_regular_file(path, LARGEST_FILE_BYTES, "photo")
+        except FileRefused as error:
+            raise ProfileError(f"Row {number}: {error}") from None
         except OSError as error:
             raise ProfileError(f"Row {number}: cannot read the photo {name}: {error.strerror}.") from None
         digest = hashlib.sha256(data).hexdigest()
@@ -214,31 +230,63 @@ def fit_from_csv(name: str, csv_path: Path, data_dir: Path) -> CameraProfile:
     return profile
 
 
+def _leave_one_out(pairs: list[Pair], space) -> tuple[np.ndarray, np.ndarray]:
+    """For each pair, the map fitted to all the others: (each left-out pair's miss in °C, the rms
+    miss of the others in °C), in time linear in the number of pairs.
+
+    The weighted least-squares sums of all pairs, less one pair's terms, give the fit without it
+    (a rank-one downdate of the normal equations), with Orear's effective variances taken at
+    the gain of the fit to all pairs. The others' misses are first-order ones, a green/red
+    residual divided by the slope of the mapped locus (JCGM 100:2008, 5.1.2).
+    """
+    y = np.array([pair.green_ratio for pair in pairs])
+    sigma_y = np.array([pair.green_ratio_sigma for pair in pairs])
+    reference_k = celsius_to_kelvin(np.array([pair.reference_c for pair in pairs]))
+    sigma_t = np.array([pair.reference_sigma_c for pair in pairs])
+    x, slope = ideal_green_ratio(reference_k, space)
+    gain_all = fit_ratio_map(pairs, space).gain
+    w = 1.0 / (sigma_y**2 + (gain_all * slope * sigma_t) ** 2)
+
+    def without_each(terms):
+        return terms.sum() - terms
+
+    s, sx, sy = without_each(w), without_each(w * x), without_each(w * y)
+    sxx, sxy = without_each(w * x * x), without_each(w * x * y)
+    gain = (s * sxy - sx * sy) / (s * sxx - sx**2)
+    offset = (sy - gain * sx) / s
+    grid = blackbody_table().temperature_k
+    ideal = locus_ratios(space, clipped=False)[:, 0]
+    rising = grid >= grid[ideal > ideal.min()][0]
+    missed_k = np.interp((y - offset) / gain, ideal[rising], grid[rising]) - reference_k
+    # The others' misses: sum over j != i of ((u_j - offset_i v_j - gain_i t_j) / gain_i)^2.
+    u, v, t = y / slope, 1.0 / slope, x / slope
+    squares = (without_each(u * u) + offset**2 * without_each(v * v) + gain**2 * without_each(t * t)
+               - 2 * offset * without_each(u * v) - 2 * gain * without_each(u * t)
+               + 2 * offset * gain * without_each(v * t))  # fmt: skip
+    rest_rms = np.sqrt(np.maximum(squares, 0.0) / (len(pairs) - 1)) / np.abs(gain)
+    return missed_k, rest_rms
+
+
 def _refuse_wild_pairs(pairs: list[Pair], space) -> None:
     """Refuse pairs that disagree: likely a mistyped reference, a wrong region or another setting.
 
-    Each pair is left out in turn and predicted from a map fitted to the others. With four or
-    more pairs the suspect is the one whose removal leaves the others agreeing best; with three
-    the pairs cannot say which one is wrong, so all are named.
+    Each pair is left out in turn and predicted from a map fitted to the others
+    (:func:`_leave_one_out`). With four or more pairs the suspect is the one whose removal
+    leaves the others agreeing best; with three the pairs cannot say which one is wrong, so all
+    are named.
     """
-    trials = []
-    for pair in pairs:
-        others = [p for p in pairs if p is not pair]
-        fitted = fit_ratio_map(others, space)
-        rest = CameraProfile("check", fitted, others, space.name).residuals_c()
-        miss = CameraProfile("check", fitted, [pair], space.name).residuals_c()[0]
-        trials.append((float(np.sqrt(np.mean(np.square(rest)))), miss, pair.photo))
-    worst_miss = max(abs(miss) for _, miss, _ in trials)
+    missed, rest_rms = _leave_one_out(pairs, space)
+    worst_miss = float(np.max(np.abs(missed)))
     if worst_miss <= WILD_RESIDUAL_C:
         return
     if len(pairs) == 3:
-        names = ", ".join(name for _, _, name in trials)
+        names = ", ".join(pair.photo for pair in pairs)
         raise ProfileError(
             f"The pairs {names} disagree by up to {worst_miss:.0f} °C: check their reference "
             "values, regions and camera settings."
         )
-    _, miss, name = min(trials)
+    suspect = int(np.argmin(rest_rms))
     raise ProfileError(
-        f"The pair {name} disagrees with the others by {miss:+.0f} °C: check its reference "
-        "value, region and camera settings, or leave it out."
+        f"The pair {pairs[suspect].photo} disagrees with the others by {missed[suspect]:+.0f} °C: check its "
+        "reference value, region and camera settings, or leave it out."
     )

@@ -121,3 +121,57 @@ def test_measure_command_plain_line_and_region_errors(tmp_path, capsys):
     assert "positive width" in capsys.readouterr().err
     assert cli.main(["measure", str(good), "--region", "500,500,10,10"]) == 1
     assert "outside" in capsys.readouterr().err
+
+
+# Names that are not photo files. Each command runs in a child process held to 2 GB of address
+# space and 60 s, so a regression fails instead of hanging or filling the machine's memory.
+def run_bounded(arguments, cwd):
+    import resource
+    import subprocess
+    import sys
+
+    def limit():
+        resource.setrlimit(resource.RLIMIT_AS, (2 << 30, 2 << 30))
+
+    return subprocess.run([sys.executable, "-m", "glowtemp.cli", *arguments], cwd=cwd, capture_output=True,
+                          text=True, timeout=60, preexec_fn=limit, stdin=subprocess.DEVNULL)  # fmt: skip
+
+
+def a_fifo(folder):
+    import os
+
+    os.mkfifo(folder / "pipe.jpg")
+    return str(folder / "pipe.jpg")
+
+
+def a_huge_sparse_file(folder):
+    with open(folder / "huge.jpg", "wb") as handle:
+        handle.truncate(300 * 1024 * 1024)  # sparse: takes no disk space
+    return str(folder / "huge.jpg")
+
+
+NOT_PHOTO_FILES = [
+    ("a FIFO", a_fifo, "pipe (FIFO)"),
+    ("the endless device /dev/zero", lambda folder: "/dev/zero", "a device"),
+    ("a file beyond the size limit", a_huge_sparse_file, "larger than 200 MB"),
+]
+
+
+@pytest.mark.parametrize("name, make, words", NOT_PHOTO_FILES, ids=[case[0] for case in NOT_PHOTO_FILES])
+def test_measure_refuses_what_is_not_a_regular_photo_file(tmp_path, name, make, words):
+    done = run_bounded(["measure", make(tmp_path), "--json"], tmp_path)
+    assert done.returncode == 1
+    assert words in json.loads(done.stdout.splitlines()[0])["error"]
+
+
+@pytest.mark.parametrize("name, make, words", NOT_PHOTO_FILES, ids=[case[0] for case in NOT_PHOTO_FILES])
+def test_profile_fit_refuses_a_pairs_row_naming_what_is_not_a_regular_file(tmp_path, name, make, words):
+    (tmp_path / "pairs.csv").write_text(f"photo,reference_c\n{make(tmp_path)},1000\n", encoding="utf-8")
+    done = run_bounded(["profile", "fit", "p", str(tmp_path / "pairs.csv"), "--data", str(tmp_path / "data")], tmp_path)
+    assert done.returncode == 2 and "Row 2" in done.stderr and words in done.stderr
+    assert not (tmp_path / "data" / "profiles").exists()
+
+
+def test_profile_fit_refuses_a_pairs_file_that_is_a_fifo(tmp_path):
+    done = run_bounded(["profile", "fit", "p", a_fifo(tmp_path), "--data", str(tmp_path / "data")], tmp_path)
+    assert done.returncode == 2 and "pipe (FIFO)" in done.stderr

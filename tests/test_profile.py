@@ -20,6 +20,7 @@ from glowtemp.profile import (
 from glowtemp.colourspaces import DISPLAY_P3, SRGB
 from glowtemp.profile_store import fit_from_csv, list_profiles, load_profile, save_profile
 from glowtemp.reading import measure
+from glowtemp.scales import celsius_to_kelvin
 from glowtemp.synthetic import encode_jpeg, render_photo
 from glowtemp.synthetic_camera import CAMERAS
 
@@ -143,6 +144,7 @@ def test_newer_profile_format_is_refused_plainly(tmp_path):
         ("photo,reference_c,region", ["a.jpg,1000,5,5,0,0"], "Row 2"),
         ("photo,cone", ["a.jpg,42"], "Row 2: Cone '42' is not in"),
         ("photo,reference_c", [], "no rows"),
+        ("photo,reference_c", ["a.jpg,1000"] * 1001, "1001 rows; a profile takes at most 1000"),
     ],
 )
 def test_bad_pairs_files_fail_cleanly_and_store_nothing(tmp_path, header, rows, message):
@@ -238,3 +240,26 @@ def test_raw_photos_get_their_own_profile(tmp_path):
     jpeg = measure(load_photo(shoot(tmp_path, "j.jpg", 900, seed=41)), profile=profile).to_dict()
     assert jpeg["profile"] is None
     assert "profile-not-applied" in [w["code"] for w in jpeg["warnings"]]
+
+
+def test_leaving_each_pair_out_matches_refitting_without_it():
+    # The rank-one downdate against a plain refit of the others (fit_ratio_map, then each pair's
+    # residual by inverting the fitted map): on invented pairs, one with a mistyped reference.
+    from glowtemp.profile_store import _leave_one_out
+
+    rng = np.random.default_rng(5)
+    truth_c = rng.uniform(800, 1300, 8)
+    ideal, _ = ideal_green_ratio(celsius_to_kelvin(truth_c), SRGB)
+    recorded = 0.02 + 1.05 * ideal + rng.normal(0, 0.002, 8)
+    typed_c = truth_c + np.where(np.arange(8) == 5, 250.0, 0.0)
+    pairs = [Pair(f"p{i}.jpg", float(recorded[i]), 0.002, float(typed_c[i]), 5.0) for i in range(8)]
+    missed, rest_rms = _leave_one_out(pairs, SRGB)
+    for i, pair in enumerate(pairs):
+        others = pairs[:i] + pairs[i + 1:]
+        fitted = fit_ratio_map(others, SRGB)
+        refit_miss = CameraProfile("check", fitted, [pair], SRGB.name).residuals_c()[0]
+        refit_rest = np.sqrt(np.mean(np.square(CameraProfile("check", fitted, others, SRGB.name).residuals_c())))
+        assert missed[i] == pytest.approx(refit_miss, abs=2.0)  # °C
+        assert rest_rms[i] == pytest.approx(refit_rest, rel=0.03)
+    assert int(np.argmin(rest_rms)) == 5
+
