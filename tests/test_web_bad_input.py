@@ -391,3 +391,62 @@ def test_many_addresses_cannot_share_the_guessing_of_one_code(paired_web_app):
     now[0] += pairing.retired_pause_s + 1
     assert late.post("/pair", data={"code": first}).status_code == 403  # the old code is gone
     assert late.post("/pair", data={"code": pairing.code}).status_code == 303
+
+
+# Size limits, each named in its own words, also where waitress itself refuses.
+def many_parts_body(parts: int, boundary: str = "glowtempboundary") -> bytes:
+    """A multipart/form-data body (RFC 7578) of ``parts`` tiny file parts."""
+    piece = (f"--{boundary}\r\nContent-Disposition: form-data; name=\"photo\"; filename=\"p.jpg\"\r\n"
+             f"Content-Type: image/jpeg\r\n\r\nx\r\n")  # fmt: skip
+    return (piece * parts + f"--{boundary}--\r\n").encode("ascii")
+
+
+@pytest.mark.parametrize("parts", [101, 1500])
+def test_a_form_of_many_parts_is_refused_for_its_parts(web_app, web_client, parts):
+    body = many_parts_body(parts)
+    answer = web_client.post("/api/readings", data=body, content_type="multipart/form-data; boundary=glowtempboundary")
+    assert answer.status_code == 413
+    message = answer.get_json()["error"]
+    assert "more than 100 parts" in message and "text field" not in message
+    assert stored_state(web_app) == (0, [])
+
+
+def test_a_form_of_a_few_parts_split_across_reads_is_counted_right():
+    from glowtemp.web.limits import PartCounter, TooManyParts
+
+    body = many_parts_body(100)
+    for chunk in (1, 7, 64 * KB):  # a delimiter may be split between any two reads
+        stream = PartCounter(io.BytesIO(body), b"glowtempboundary", most_parts=100)
+        while stream.read(chunk):
+            pass
+        with pytest.raises(TooManyParts):
+            stream = PartCounter(io.BytesIO(many_parts_body(101)), b"glowtempboundary", most_parts=100)
+            while stream.read(chunk):
+                pass
+
+
+def test_waitress_refuses_an_oversized_upload_in_the_apps_json_words(tmp_path):
+    import json
+    import socket
+    import threading
+
+    from glowtemp.web import create_app
+    from glowtemp.web.server import build_server
+
+    app = create_app({"DATA_DIR": tmp_path / "data"})
+    server = build_server(app, "127.0.0.1", 0)
+    thread = threading.Thread(target=server.run, daemon=True)
+    thread.start()
+    try:
+        size = 70 * 1024 * 1024  # beyond the 64 MB limit and waitress's slack of 1 MB
+        with socket.create_connection(("127.0.0.1", server.effective_port), timeout=20) as connection:
+            connection.sendall((f"POST /api/readings HTTP/1.1\r\nHost: 127.0.0.1\r\nContent-Length: {size}\r\n"
+                                "Content-Type: multipart/form-data; boundary=b\r\n\r\n").encode("ascii"))  # fmt: skip
+            reply = b""
+            while not reply.endswith(b"}") and (chunk := connection.recv(65536)):
+                reply += chunk
+        head, _, body = reply.partition(b"\r\n\r\n")
+        assert head.startswith(b"HTTP/1.1 413") and b"application/json" in head
+        assert json.loads(body)["error"] == "The upload is larger than 64 MB; send a smaller photo."
+    finally:
+        server.close()

@@ -25,6 +25,7 @@ MAX_PHOTO_PIXELS = 50_000_000  # checked from the file's header before decoding 
 # also holds a file's bytes to this limit while it reads them in 64 KiB chunks, keeping back a
 # few bytes that could start a boundary, so the limit must be well above 64 KiB.
 MAX_FIELD_BYTES = 256 * 1024
+MAX_FORM_PARTS = 100  # parts of one multipart form: a photo and a few text fields need far fewer
 
 
 def create_app(config: dict | None = None) -> Flask:
@@ -33,8 +34,8 @@ def create_app(config: dict | None = None) -> Flask:
     Without ``DATA_DIR`` the per-user data folder of :func:`glowtemp.datadir.data_dir` is used.
     ``PAIRING`` True asks every device to pair first (:mod:`glowtemp.web.access`).
     Input limits: ``MAX_CONTENT_LENGTH`` (bytes of a whole request, 413 beyond),
-    ``MAX_PHOTO_PIXELS`` (422 beyond) and ``MAX_FORM_MEMORY_SIZE`` (bytes of one text field,
-    and of a request without a file; 413 beyond).
+    ``MAX_PHOTO_PIXELS`` (422 beyond), ``MAX_FORM_MEMORY_SIZE`` (bytes of one text field,
+    and of a request without a file; 413 beyond) and ``MAX_FORM_PARTS`` (parts of a form; 413).
     """
     from glowtemp.datadir import data_dir
 
@@ -43,6 +44,7 @@ def create_app(config: dict | None = None) -> Flask:
         MAX_CONTENT_LENGTH=MAX_UPLOAD_BYTES,
         MAX_PHOTO_PIXELS=MAX_PHOTO_PIXELS,
         MAX_FORM_MEMORY_SIZE=MAX_FIELD_BYTES,
+        MAX_FORM_PARTS=MAX_FORM_PARTS,
         DATA_DIR=None,
     )
     app.config.update(config or {})

@@ -37,11 +37,20 @@ def _reply(message: str, status: int, **details):
     return render_template("error.html", message=message, status=status), status
 
 
-def _too_large_message(config) -> str:
-    """Which limit a 413 request broke: the whole upload's, or a text field's."""
+def upload_too_large(limit_bytes: int) -> str:
+    return f"The upload is larger than {_size(limit_bytes)}; send a smaller photo."
+
+
+def _too_large_message(error, config) -> str:
+    """Which limit a 413 request broke: the parts of a form, the whole upload's, or a text field's."""
+    from .limits import TooManyParts
+
+    if isinstance(error, TooManyParts):
+        return (f"The form has more than {config['MAX_FORM_PARTS']} parts; a reading needs one photo "
+                "and a few fields. Send fewer files or fields.")  # fmt: skip
     length = request.content_length
     if (length is None and request.mimetype == "multipart/form-data") or (length or 0) > config["MAX_CONTENT_LENGTH"]:
-        return f"The upload is larger than {_size(config['MAX_CONTENT_LENGTH'])}; send a smaller photo."
+        return upload_too_large(config["MAX_CONTENT_LENGTH"])
     return f"A text field or the request body is larger than {_size(config['MAX_FORM_MEMORY_SIZE'])}; shorten it."
 
 
@@ -65,7 +74,7 @@ def register(app) -> None:
     def http_error(error: HTTPException):
         status = error.code or 500
         if status == 413:
-            return _reply(_too_large_message(app.config), 413)
+            return _reply(_too_large_message(error, app.config), 413)
         return _reply(PLAIN_WORDS.get(status, error.name + "."), status)
 
     @app.errorhandler(Exception)

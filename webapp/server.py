@@ -14,6 +14,7 @@ photo and committing its row) are removed once they are an hour old.
 from __future__ import annotations
 
 import io
+import json
 import socket
 import sys
 from pathlib import Path
@@ -21,7 +22,7 @@ from pathlib import Path
 SERVER_THREADS = 4
 QR_BORDER_MODULES = 4  # the quiet zone ISO/IEC 18004 asks for
 WHITE_ON_BLACK = ("\x1b[97;40m", "\x1b[0m")  # ANSI: light modules white on black, on any theme
-WAITRESS_SLACK_BYTES = 1024 * 1024  # waitress refuses only beyond the app's own limit (which answers JSON)
+WAITRESS_SLACK_BYTES = 1024 * 1024  # waitress refuses only beyond the app's own limit, before reading the body
 
 
 def lan_address() -> str | None:
@@ -89,12 +90,42 @@ def open_app(data_dir: Path, pairing: bool, limits: dict | None = None, out=sys.
     return app
 
 
+def _plain_words_channel(upload_limit_bytes: int):
+    """A waitress connection whose own refusals (a body beyond its limit, a malformed request)
+    answer in the app's words: JSON ``{"error": ...}`` under /api/, a short text elsewhere."""
+    from waitress.channel import HTTPChannel
+    from waitress.task import ErrorTask
+
+    from .errors import upload_too_large
+
+    class PlainWordsErrorTask(ErrorTask):
+        def execute(self):
+            error = self.request.error
+            message = upload_too_large(upload_limit_bytes) if error.code == 413 else f"{error.reason}: {error.body}"
+            if (self.request.path or "").startswith("/api/"):
+                body, kind = json.dumps({"error": message}).encode("utf-8"), "application/json"
+            else:
+                body, kind = message.encode("utf-8"), "text/plain; charset=utf-8"
+            self.status = f"{error.code} {error.reason}"
+            self.response_headers.append(("Content-Type", kind))
+            self.set_close_on_finish()
+            self.content_length = len(body)
+            self.write(body)
+
+    class PlainWordsChannel(HTTPChannel):
+        error_task_class = PlainWordsErrorTask
+
+    return PlainWordsChannel
+
+
 def build_server(app, host: str, port: int):
     """A waitress server for ``app``; ``port`` 0 picks a free port."""
     from waitress.server import create_server
 
     body_limit = app.config["MAX_CONTENT_LENGTH"] + WAITRESS_SLACK_BYTES
-    return create_server(app, host=host, port=port, threads=SERVER_THREADS, max_request_body_size=body_limit)
+    server = create_server(app, host=host, port=port, threads=SERVER_THREADS, max_request_body_size=body_limit)
+    server.channel_class = _plain_words_channel(app.config["MAX_CONTENT_LENGTH"])
+    return server
 
 
 def serve(host: str, port: int, data_dir: Path, demo_dir: Path | None = None, *, pairing: bool | None = None,
