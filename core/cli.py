@@ -187,7 +187,9 @@ def describe(result: dict) -> str:
 
 def _serve(args) -> int:
     from .datadir import data_dir
+    from .folder_lock import FolderInUse
     from .logbook import LogbookError
+    from .storage import StorageError
     from .web.server import lan_address, serve
 
     host = lan_address() if args.lan else args.host
@@ -201,7 +203,7 @@ def _serve(args) -> int:
         limits["MAX_PHOTO_PIXELS"] = int(args.max_megapixels * 1e6)
     try:
         serve(host, args.port, data_dir(args.data), args.demo, pairing=True if args.pair else None, limits=limits)
-    except LogbookError as error:
+    except (LogbookError, StorageError, FolderInUse) as error:
         print(f"glowtemp: {error}", file=sys.stderr)
         return 1
     except OSError as error:

@@ -23,6 +23,7 @@ from .cones import ConeError, cone_table
 from .logbook_fields import LogbookError
 from .logbook_schema import RESULT_COLUMNS, SchemaError, migrate, result_columns
 from .photo_store import PhotoStore, PhotoStoreError
+from .storage import translated
 
 __all__ = ["Logbook", "LogbookError", "UploadConflict"]
 
@@ -94,12 +95,14 @@ class Logbook:
 
     @contextmanager
     def _write(self):
-        with self._lock:
+        """One write transaction; a full disk or read-only folder raises :class:`StorageError`."""
+        with self._lock, translated(self.data_dir):
             self._db.execute("BEGIN IMMEDIATE")
             try:
                 yield self._db
             except BaseException:
-                self._db.execute("ROLLBACK")
+                if self._db.in_transaction:  # SQLite may have rolled back already (SQLITE_FULL)
+                    self._db.execute("ROLLBACK")
                 raise
             self._db.execute("COMMIT")
 
@@ -112,7 +115,8 @@ class Logbook:
     def store_photo(self, data: bytes, suffix: str) -> str:
         """Store a photo's bytes completely; returns its key (SHA-256 hex + ``suffix``)."""
         try:
-            return self.photos.put(data, suffix)
+            with translated(self.data_dir):
+                return self.photos.put(data, suffix)
         except PhotoStoreError as error:
             raise LogbookError(str(error)) from None
 

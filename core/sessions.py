@@ -18,6 +18,7 @@ import threading
 from pathlib import Path
 
 from .logbook_fields import utc_now
+from .storage import translated
 
 SECRET_BYTES = 32  # 256 random bits, from the operating system's generator
 BUSY_TIMEOUT_S = 10.0
@@ -37,6 +38,7 @@ class SessionStore:
 
     def __init__(self, database_path: Path):
         self._lock = threading.Lock()
+        self.folder = Path(database_path).parent
         self._db = sqlite3.connect(database_path, timeout=BUSY_TIMEOUT_S, isolation_level=None, check_same_thread=False)
 
     def close(self) -> None:
@@ -53,7 +55,7 @@ class SessionStore:
         """Record a newly paired device; returns its session secret (never stored as such)."""
         secret = secrets.token_urlsafe(SECRET_BYTES)
         now = utc_now()
-        with self._lock:
+        with self._lock, translated(self.folder):
             self._db.execute(
                 "INSERT INTO sessions (secret_sha256, paired_at, paired_from) VALUES (?, ?, ?)",
                 (secret_digest(secret), now, paired_from),

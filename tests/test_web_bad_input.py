@@ -450,3 +450,97 @@ def test_waitress_refuses_an_oversized_upload_in_the_apps_json_words(tmp_path):
         assert json.loads(body)["error"] == "The upload is larger than 64 MB; send a smaller photo."
     finally:
         server.close()
+
+
+# A full disk or a read-only data folder: 507 or 503 in plain words, nothing stored. Tests run
+# as root, for whom permission bits do not hold, so the failure is made at the write itself: the
+# OSError a full or read-only file system gives (errno ENOSPC, EROFS; POSIX <errno.h>), or
+# SQLite's own limits (PRAGMA max_page_count gives SQLITE_FULL, PRAGMA query_only gives
+# SQLITE_READONLY; sqlite.org pragma.html).
+def photo_writes_fail(code):
+    def breaking(monkeypatch, app):
+        import errno
+        import os
+
+        def failing_fsync(descriptor):
+            raise OSError(getattr(errno, code), os.strerror(getattr(errno, code)))
+
+        monkeypatch.setattr(os, "fsync", failing_fsync)
+
+    return breaking
+
+
+def database_full(monkeypatch, app):
+    db = app.extensions["glowtemp"]["logbook"]._db
+    db.execute(f"PRAGMA max_page_count = {db.execute('PRAGMA page_count').fetchone()[0]}")
+
+
+def database_read_only(monkeypatch, app):
+    app.extensions["glowtemp"]["logbook"]._db.execute("PRAGMA query_only = 1")
+
+
+STORAGE_CASES = [
+    ("disk full while a photo is written", photo_writes_fail("ENOSPC"), "reading", 507, "is full"),
+    ("read-only folder while a photo is written", photo_writes_fail("EROFS"), "reading", 503, "read-only"),
+    ("disk full while the log grows", database_full, "firing", 507, "is full"),
+    ("read-only log database", database_read_only, "firing", 503, "read-only"),
+    ("read-only log database under an upload", database_read_only, "reading", 503, "read-only"),
+]
+
+
+@pytest.mark.parametrize("name, breaking, what, status, words", STORAGE_CASES, ids=[case[0] for case in STORAGE_CASES])
+def test_storage_failures_answer_507_or_503_and_store_nothing(web_app, web_client, monkeypatch, two_halves_jpeg,
+                                                              name, breaking, what, status, words):  # fmt: skip
+    breaking(monkeypatch, web_app)
+    if what == "reading":
+        answer = web_client.post("/api/readings", data={"photo": (io.BytesIO(two_halves_jpeg), "a.jpg")})
+    else:
+        answer = web_client.post("/api/firings", json={"name": "Full", "notes": "n" * 4000})
+    monkeypatch.undo()
+    assert answer.status_code == status, answer.get_json()
+    message = answer.get_json()["error"]
+    assert words in message and str(web_app.config["DATA_DIR"]) in message and "not measured" not in message
+    assert stored_state(web_app) == (0, []) and web_app.extensions["glowtemp"]["logbook"].list_firings() == []
+
+
+def fail_writes_under(monkeypatch, folder, code="EROFS"):
+    """Every open for writing and every mkdir under ``folder`` fails as a read-only mount would."""
+    import errno
+    import os
+
+    real_open, real_mkdir = os.open, os.mkdir
+    writing = os.O_WRONLY | os.O_RDWR | os.O_CREAT
+
+    def failing_open(path, flags, *args, **kwargs):
+        if str(path).startswith(str(folder)) and flags & writing:
+            raise OSError(getattr(errno, code), os.strerror(getattr(errno, code)), str(path))
+        return real_open(path, flags, *args, **kwargs)
+
+    def failing_mkdir(path, *args, **kwargs):
+        if str(path).startswith(str(folder)) and not os.path.isdir(path):
+            raise OSError(getattr(errno, code), os.strerror(getattr(errno, code)), str(path))
+        return real_mkdir(path, *args, **kwargs)
+
+    monkeypatch.setattr(os, "open", failing_open)
+    monkeypatch.setattr(os, "mkdir", failing_mkdir)
+
+
+@pytest.mark.parametrize("holds_a_log", [False, True], ids=["an empty read-only folder", "a read-only folder holding a log"])
+def test_serve_refuses_a_read_only_data_folder_in_its_words(tmp_path, monkeypatch, capsys, holds_a_log):
+    from glowtemp.cli import main
+    from glowtemp.logbook import Logbook
+    from glowtemp.web import server
+
+    data = tmp_path / "data"
+    data.mkdir()
+    if holds_a_log:
+        Logbook(data).close()
+
+    def no_serving(*args, **kwargs):
+        raise AssertionError("glowtemp serve started on a read-only folder")
+
+    monkeypatch.setattr(server, "build_server", no_serving)
+    fail_writes_under(monkeypatch, data)
+    assert main(["serve", "--port", "0", "--data", str(data)]) == 1
+    err = capsys.readouterr().err
+    assert f"The data folder {data} is read-only" in err and "cannot serve on" not in err

@@ -124,3 +124,22 @@ def test_kill_9_mid_upload_then_restart_serves_everything_saved_before(tmp_path)
             assert photo_key(log.photo_path(key).read_bytes(), ".jpg") == key
         assert not [p for p in log.photos.folder.iterdir() if p.name.startswith(TEMPORARY_PREFIX)]
         assert len(rows) >= len(saved)  # at most the requests cut short went unanswered
+
+
+def test_a_second_server_on_the_same_data_folder_refuses_and_names_the_first(tmp_path):
+    import subprocess
+    import sys
+
+    first, base = start_glowtemp_serve(tmp_path)
+    try:
+        second = subprocess.run([sys.executable, "-m", "glowtemp.cli", "serve", "--port", "0", "--data", str(tmp_path)],
+                                capture_output=True, text=True, timeout=60, stdin=subprocess.DEVNULL)  # fmt: skip
+        assert second.returncode == 1
+        assert f"Another glowtemp serve (process {first.pid}, serving {base}/)" in second.stderr
+        assert "Open " not in second.stdout
+        with urllib.request.urlopen(base + "/api/firings", timeout=30) as answer:  # the first goes on
+            assert answer.status == 200
+    finally:
+        stop(first)
+    again, _ = start_glowtemp_serve(tmp_path)  # the lock went with the first server
+    stop(again)

@@ -8,6 +8,8 @@ from __future__ import annotations
 from flask import jsonify, render_template, request
 from werkzeug.exceptions import HTTPException, InternalServerError
 
+from glowtemp.storage import StorageError
+
 PLAIN_WORDS = {
     400: "The request could not be understood.",
     404: "There is nothing at this address.",
@@ -69,6 +71,11 @@ def register(app) -> None:
     @app.errorhandler(ApiError)
     def api_error(error: ApiError):
         return _reply(error.message, error.status, **error.details)
+
+    @app.errorhandler(StorageError)
+    def storage_error(error: StorageError):
+        app.logger.error("storage failure on %s: %s", request.path, error.__cause__)
+        return _reply(str(error), 507 if error.full else 503)  # RFC 4918 11.5: Insufficient Storage
 
     @app.errorhandler(HTTPException)
     def http_error(error: HTTPException):

@@ -5,8 +5,9 @@ On any other address (``--lan`` picks this machine's address on the local networ
 device must pair first: the server prints the pairing address with a one-time code and a QR
 code of it, and prints a fresh code each time one is used (:mod:`glowtemp.web.access`).
 
-Before serving, the firing log is checked: a damaged database stops the start with a plain
-message (:meth:`glowtemp.logbook.Logbook.check_database`), readings whose photo is missing are
+Before serving, the data folder must take a real write (a read-only or full folder stops the
+start with a plain message, :func:`glowtemp.storage.check_writable`), and the firing log is
+checked: a damaged database stops the start with a plain message (:meth:`glowtemp.logbook.Logbook.check_database`), readings whose photo is missing are
 reported, and whole photos that no reading names (left by a process killed between storing the
 photo and committing its row) are removed once they are an hour old.
 """
@@ -15,6 +16,7 @@ from __future__ import annotations
 
 import io
 import json
+import os
 import socket
 import sys
 from pathlib import Path
@@ -75,8 +77,15 @@ def pairing_message(base_url: str, code: str, colour: bool = False) -> str:
 
 
 def open_app(data_dir: Path, pairing: bool, limits: dict | None = None, out=sys.stdout):
-    """The app on ``data_dir`` after the start-up checks; raises LogbookError if the log is damaged."""
+    """The app on ``data_dir`` after the start-up checks; raises LogbookError if the log is damaged
+    and StorageError if the data folder cannot be written."""
+    from glowtemp.logbook import DATABASE_NAME, PHOTOS_FOLDER
+    from glowtemp.storage import check_writable
+
     from . import create_app
+
+    data_dir = Path(data_dir)
+    check_writable(data_dir, folders=[data_dir / PHOTOS_FOLDER], files=[data_dir / DATABASE_NAME])
 
     app = create_app({"DATA_DIR": data_dir, "PAIRING": pairing, **(limits or {})})
     log = app.extensions["glowtemp"]["logbook"]
@@ -130,8 +139,24 @@ def build_server(app, host: str, port: int):
 
 def serve(host: str, port: int, data_dir: Path, demo_dir: Path | None = None, *, pairing: bool | None = None,
           limits: dict | None = None, out=sys.stdout) -> None:  # fmt: skip
-    """Serve until interrupted. ``pairing`` None means: pair unless ``host`` is loopback."""
+    """Serve until interrupted. ``pairing`` None means: pair unless ``host`` is loopback.
+
+    Raises :class:`glowtemp.folder_lock.FolderInUse` while another server holds the data folder.
+    """
+    from glowtemp.folder_lock import FolderLock
+    from glowtemp.storage import check_writable
+
     pairing = needs_pairing(host) if pairing is None else pairing
+    check_writable(data_dir)  # the lock file is written there
+    lock = FolderLock(data_dir)
+    lock.take()
+    try:
+        _serve_locked(host, port, data_dir, demo_dir, pairing, limits, out, lock)
+    finally:
+        lock.release()
+
+
+def _serve_locked(host, port, data_dir, demo_dir, pairing: bool, limits, out, lock) -> None:
     app = open_app(data_dir, pairing, limits, out)
     if demo_dir is not None:
         from glowtemp.demo import seed_demo
@@ -143,6 +168,7 @@ def serve(host: str, port: int, data_dir: Path, demo_dir: Path | None = None, *,
     server = build_server(app, host, port)
     print(f"glowtemp is serving the data folder {data_dir}", file=out, flush=True)
     urls = addresses_to_open(host, server.effective_port)
+    lock.describe(f"process {os.getpid()}, serving {urls[0]}")
     for url in urls:
         print(f"Open {url}", file=out, flush=True)
     if pairing:
