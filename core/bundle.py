@@ -6,11 +6,15 @@ Layout of a bundle::
                             "readings": [...], "photos": {key: {"sha256": ..., "bytes": ...}}}
     photos/<key>           each photo once, under its content key (SHA-256 hex + suffix)
 
-Importing checks the whole bundle before anything is stored: only those names, the format
-name and a known version, every reading's photo present, every photo's SHA-256 (FIPS 180-4)
-matching its name and the manifest, sizes within limits. Photos are then stored and the
-firing with its readings is inserted in one transaction; if that fails, photos that only
-this import brought are removed again.
+Importing checks the whole bundle before anything is stored: only those names, at most
+:data:`MOST_PHOTOS` photos, sizes within limits (from the zip's directory, before anything is
+read, and held to as members are read), the format name and a known version, every field of
+the firing and its readings (results by :mod:`glowtemp.result_schema`, as the API's),
+every reading's photo present, every photo a photo by its header, in the format its name
+says, and its SHA-256 (FIPS 180-4) matching its name and the manifest. Members are read in
+chunks, never whole. Photos are then stored, streamed from the zip, and the firing with its
+readings is inserted in one transaction; if that fails, photos that only this import brought
+are removed again.
 
 Importing the same bundle twice makes a second firing: when the log already has a firing
 of that name, the new one is named "<name> (imported copy)", then "(imported copy 2)" and
@@ -27,15 +31,18 @@ from pathlib import Path
 
 from .logbook import Logbook, LogbookError
 from .logbook_fields import utc_now
+from .photo import LARGEST_FILE_BYTES, STORED_SUFFIXES, PhotoError, photo_format
 from .photo_store import KEY_PATTERN
 
 FORMAT_NAME = "glowtemp-firing-bundle"
 FORMAT_VERSION = 1
 MANIFEST_NAME = "manifest.json"
 PHOTO_FOLDER = "photos/"
-LARGEST_PHOTO_BYTES = 200 * 1024 * 1024
+LARGEST_PHOTO_BYTES = LARGEST_FILE_BYTES
 LARGEST_MANIFEST_BYTES = 64 * 1024 * 1024
-LARGEST_BUNDLE_BYTES = 20 * 1024 * 1024 * 1024
+LARGEST_BUNDLE_BYTES = 20 * 1024 * 1024 * 1024  # unpacked, from the zip's directory (checked as read)
+MOST_PHOTOS = 10_000
+HASH_CHUNK_BYTES = 1 << 20
 
 FIRING_KEYS = ("name", "kiln", "kind", "target_c", "target_cone", "started_at", "notes", "status", "closed_at", "created_at")
 READING_KEYS = ("photo_key", "photo_name", "taken_at", "created_at", "result", "reference_c", "cone", "cone_state", "note")
@@ -84,7 +91,10 @@ def _check_names(bundle: zipfile.ZipFile) -> list[str]:
     keys = []
     total = 0
     seen = set()
-    for info in bundle.infolist():
+    members = bundle.infolist()
+    if len(members) > MOST_PHOTOS + 1:
+        raise BundleError(f"The bundle holds {len(members)} files; a firing's bundle holds at most {MOST_PHOTOS} photos.")
+    for info in members:
         total += info.file_size
         name = info.filename
         if name in seen:
@@ -102,7 +112,7 @@ def _check_names(bundle: zipfile.ZipFile) -> list[str]:
             raise BundleError(f"The photo {key} in the bundle is larger than {LARGEST_PHOTO_BYTES // 2**20} MB.")
         keys.append(key)
     if total > LARGEST_BUNDLE_BYTES:
-        raise BundleError("The bundle unpacks to more than 20 GB; it is not imported.")
+        raise BundleError(f"The bundle unpacks to more than {LARGEST_BUNDLE_BYTES // 2**30} GB; it is not imported.")
     return keys
 
 
@@ -115,6 +125,8 @@ def _read_manifest(bundle: zipfile.ZipFile) -> dict:
         raise BundleError(f"The bundle's {MANIFEST_NAME} is too large to be a firing's record.")
     try:
         manifest = json.loads(bundle.read(info).decode("utf-8"))
+    except RecursionError:  # json's C parser stops deep nesting this way
+        raise BundleError(f"The bundle's {MANIFEST_NAME} nests too deeply to be a firing's record.") from None
     except (ValueError, UnicodeDecodeError, zipfile.BadZipFile) as error:
         raise BundleError(f"The bundle's {MANIFEST_NAME} cannot be read ({error}).") from None
     if not isinstance(manifest, dict) or manifest.get("format") != FORMAT_NAME:
@@ -132,25 +144,35 @@ def _read_manifest(bundle: zipfile.ZipFile) -> dict:
     return manifest
 
 
-def _read_photos(bundle: zipfile.ZipFile, manifest: dict, keys: list[str]) -> dict[str, bytes]:
-    """Each photo's bytes, checked against its name and the manifest."""
+def _check_photos(bundle: zipfile.ZipFile, manifest: dict, keys: list[str]) -> list[str]:
+    """The keys of the photos the readings use, each checked without storing anything: listed in
+    the manifest with its size, a photo by its header (:func:`glowtemp.photo.photo_format`) in
+    the format its name says, and its bytes' SHA-256 (read in chunks) matching its name."""
     wanted = {reading.get("photo_key") for reading in manifest["readings"]}
     missing = sorted(str(key) for key in wanted - set(keys))
     if missing:
         raise BundleError(f"The bundle lacks the photo {missing[0]} that a reading needs ({len(missing)} missing).")
-    photos = {}
     for key in keys:
-        try:
-            data = bundle.read(PHOTO_FOLDER + key)
-        except zipfile.BadZipFile as error:  # e.g. a CRC mismatch
-            raise BundleError(f"The photo {key} in the bundle is damaged ({error}).") from None
-        digest = hashlib.sha256(data).hexdigest()
+        info = bundle.getinfo(PHOTO_FOLDER + key)
         listed = manifest["photos"].get(key)
-        if digest != key.partition(".")[0] or not isinstance(listed, dict) or listed.get("sha256") != digest:
+        if not isinstance(listed, dict) or listed.get("bytes") != info.file_size:
+            raise BundleError(f"The photo {key} in the bundle is not listed in its {MANIFEST_NAME} with its size.")
+        try:
+            with bundle.open(info) as member:
+                fmt = photo_format(member)
+            if STORED_SUFFIXES.get(fmt) != "." + key.partition(".")[2]:
+                raise PhotoError(f"it is a {fmt} photo under a name for another kind")
+            digest = hashlib.sha256()
+            with bundle.open(info) as member:
+                for chunk in iter(lambda: member.read(HASH_CHUNK_BYTES), b""):
+                    digest.update(chunk)
+        except PhotoError as error:
+            raise BundleError(f"The file {key} in the bundle is not a photo glowtemp can use: {error}") from None
+        except (zipfile.BadZipFile, OSError, EOFError) as error:  # e.g. a CRC mismatch
+            raise BundleError(f"The photo {key} in the bundle is damaged ({error}).") from None
+        if digest.hexdigest() != key.partition(".")[0] or listed.get("sha256") != digest.hexdigest():
             raise BundleError(f"The photo {key} in the bundle does not match its SHA-256 hash; it may be damaged.")
-        if key in wanted:  # a photo no reading uses is checked but not kept
-            photos[key] = data
-    return photos
+    return [key for key in keys if key in wanted]  # a photo no reading uses is checked but not kept
 
 
 def _free_name(log: Logbook, name) -> str:
@@ -164,20 +186,31 @@ def _free_name(log: Logbook, name) -> str:
 
 
 def import_bundle(log: Logbook, source: str | Path) -> int:
-    """Restore a bundle as a new firing; returns its id. Refuses bad bundles with nothing stored."""
+    """Restore a bundle as a new firing; returns its id. Refuses bad bundles with nothing stored.
+
+    Everything is checked first (names, sizes, the manifest, every record, every photo); only
+    then are photos stored, streamed from the zip, and then the rows in one transaction.
+    """
     with _open(source) as bundle:
         keys = _check_names(bundle)
         manifest = _read_manifest(bundle)
-        photos = _read_photos(bundle, manifest, keys)
-    firing = dict(manifest["firing"])
-    if not isinstance(firing.get("name"), str):
-        raise BundleError("The bundle's firing has no name.")
-    firing["name"] = _free_name(log, firing["name"].strip())
-    brought = [key for key in photos if not log.photo_path(key).exists()]
-    try:
-        for key, data in photos.items():
-            log.store_photo(data, "." + key.partition(".")[2])
-        return log.restore_firing(firing, manifest["readings"])
-    except (LogbookError, KeyError, TypeError, AttributeError) as error:
-        log.forget_unused_photos(brought)
-        raise BundleError(f"The bundle's records cannot be restored: {error}") from None
+        firing = dict(manifest["firing"])
+        if not isinstance(firing.get("name"), str):
+            raise BundleError("The bundle's firing has no name.")
+        firing["name"] = _free_name(log, firing["name"].strip())
+        try:
+            checked = log.check_restored(firing, manifest["readings"])
+        except LogbookError as error:
+            raise BundleError(f"The bundle's records cannot be restored: {error}") from None
+        wanted = _check_photos(bundle, manifest, keys)
+        brought = [key for key in wanted if not log.photo_path(key).exists()]
+        try:
+            for key in wanted:
+                with bundle.open(PHOTO_FOLDER + key) as member:
+                    log.store_photo_stream(member, key)
+            return log.insert_restored(checked)
+        except BaseException as error:
+            log.forget_unused_photos(brought)
+            if isinstance(error, (LogbookError, zipfile.BadZipFile)):
+                raise BundleError(f"The bundle cannot be restored: {error}") from None
+            raise

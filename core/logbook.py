@@ -23,6 +23,7 @@ from .cones import ConeError, cone_table
 from .logbook_fields import LogbookError
 from .logbook_schema import RESULT_COLUMNS, SchemaError, migrate, result_columns
 from .photo_store import PhotoStore, PhotoStoreError
+from .result_schema import ResultError, check_result
 from .storage import translated
 
 __all__ = ["Logbook", "LogbookError", "UploadConflict"]
@@ -117,6 +118,14 @@ class Logbook:
         try:
             with translated(self.data_dir):
                 return self.photos.put(data, suffix)
+        except PhotoStoreError as error:
+            raise LogbookError(str(error)) from None
+
+    def store_photo_stream(self, stream, key: str) -> str:
+        """Store a photo read in chunks from ``stream`` under ``key`` (its SHA-256 must match)."""
+        try:
+            with translated(self.data_dir):
+                return self.photos.put_stream(stream, key)
         except PhotoStoreError as error:
             raise LogbookError(str(error)) from None
 
@@ -302,8 +311,11 @@ class Logbook:
 
     @staticmethod
     def _result_json(result) -> str:
-        if not isinstance(result, dict) or "status" not in result:
-            raise LogbookError("A reading's result must be the measured reading's JSON form (with a status).")
+        """The result as JSON text, once it has the declared shape (:mod:`glowtemp.result_schema`)."""
+        try:
+            check_result(result)
+        except ResultError as error:
+            raise LogbookError(f"A reading's result cannot be stored: {error}.") from None
         try:
             return json.dumps(result, sort_keys=True, allow_nan=False)
         except (TypeError, ValueError) as error:
@@ -395,24 +407,37 @@ class Logbook:
         ``firing`` has the columns of :meth:`get_firing` (id and counts are ignored); each reading
         has those of :meth:`get_reading`. Every photo must already be in the store.
         """
+        return self.insert_restored(self.check_restored(firing, readings))
+
+    def check_restored(self, firing: dict, readings: list[dict]) -> tuple[dict, list[dict]]:
+        """Every field of a firing and its readings checked, as rows for :meth:`insert_restored`;
+        nothing is stored, and photos need not be in the store yet (their keys are checked)."""
         firing_values = _firing_values(self._known_cones(), **{name: firing.get(name) for name in FIRING_FIELDS})
         firing_values.update(
             closed_at=None if firing.get("closed_at") is None else fields.time_text(firing["closed_at"], "closing time"),
-            created_at=fields.time_text(firing["created_at"], "creation time"),
+            created_at=fields.time_text(firing.get("created_at"), "creation time"),
         )
         rows = []
         for reading in readings:
             values = self._trusted_values(**{name: reading.get(name) for name in TRUSTED_FIELDS if name != "firing_id"})
             _check_cone_pair(values["cone"], values["cone_state"])
+            result = reading.get("result")
             values.update(
-                photo_key=self._stored_key(reading.get("photo_key")),
+                photo_key=self.photo_path(reading.get("photo_key")).name,
                 photo_name=fields.text(reading.get("photo_name"), "photo name", required=True),
-                result_json=self._result_json(reading.get("result")),
+                result_json=self._result_json(result),
                 created_at=fields.time_text(reading.get("created_at"), "creation time"),
-                **result_columns(reading["result"]),
+                **result_columns(result),
             )
             rows.append(values)
+        return firing_values, rows
+
+    def insert_restored(self, checked: tuple[dict, list[dict]]) -> int:
+        """Insert what :meth:`check_restored` returned, in one transaction; every photo must be stored."""
+        firing_values, rows = checked
         with self._write() as db:
+            for values in rows:
+                self._stored_key(values["photo_key"])
             firing_id = self._insert_firing(db, firing_values)
             for values in rows:
                 self._insert_reading(db, {**values, "firing_id": firing_id})

@@ -92,12 +92,13 @@ def _export(args) -> int:
 def _import(args) -> int:
     from .bundle import BundleError, import_bundle
     from .logbook import LogbookError
+    from .storage import StorageError
 
     try:
         with _open_log(args) as log:
             firing_id = import_bundle(log, args.bundle)
             firing = log.get_firing(firing_id)
-    except (LogbookError, BundleError, OSError) as error:
+    except (LogbookError, BundleError, StorageError, OSError) as error:
         print(f"glowtemp: {args.bundle}: {getattr(error, 'strerror', None) or error}", file=sys.stderr)
         return 2
     print(f"imported as firing {firing_id}: {firing['name']} ({firing['reading_count']} readings)")

@@ -285,22 +285,27 @@ def _heif_opener() -> None:
 
 
 def _open(data: bytes) -> Image.Image:
+    return _open_stream(io.BytesIO(data), data[:16])
+
+
+def _open_stream(stream, head: bytes) -> Image.Image:
+    """Pillow's image for a seekable binary ``stream`` whose first bytes are ``head``."""
     formats = ("JPEG", "PNG", "TIFF", "GIF", "WEBP")
-    if data[4:8] == b"ftyp":  # ISO/IEC 14496-12 file type box: HEIF, AVIF, MP4, ...
+    if head[4:8] == b"ftyp":  # ISO/IEC 14496-12 file type box: HEIF, AVIF, MP4, ...
         _heif_opener()
         formats += ("HEIF",)
     try:
         with warnings.catch_warnings():
             # Pillow warns about large headers; load_photo's own pixel limit decides and says why.
             warnings.simplefilter("ignore", Image.DecompressionBombWarning)
-            return Image.open(io.BytesIO(data), formats=formats)
+            return Image.open(stream, formats=formats)
     except Image.DecompressionBombError as error:
         raise PhotoError(
             "The image is far too large to be a photo (its header claims more than "
             f"{Image.MAX_IMAGE_PIXELS * 2 // 1_000_000} megapixels); it may be damaged or hostile."
         ) from error
     except UnidentifiedImageError as error:
-        if data[4:8] == b"ftyp":
+        if head[4:8] == b"ftyp":
             raise PhotoError(
                 "This looks like a HEIC/HEIF, AVIF or video file that glowtemp cannot decode "
                 "(AVIF and videos are not read, or the HEIC file is damaged); export the photo "
@@ -563,6 +568,34 @@ def _colour_encoding(icc_bytes, exif_ifd: dict, interop: dict, max_code: int, nc
 
 
 # --- the whole decode ----------------------------------------------------------------------
+
+
+def photo_format(stream, *, max_pixels: int = 50_000_000) -> str:
+    """The format (a key of :data:`STORED_SUFFIXES`) of the photo file in the seekable binary
+    ``stream``, judged from its header alone, with every check :func:`load_photo` makes before
+    decoding pixels; :class:`PhotoError` otherwise. A TIFF's directories may lie anywhere in the
+    file (TIFF 6.0, section 2), so a TIFF or DNG is read whole; other files only as far as
+    their header goes.
+    """
+    head = stream.read(16)
+    stream.seek(0)
+    if not head:
+        raise PhotoError("The file is empty (0 bytes): it holds no photo.")
+    if head[:2] in TIFF_BYTE_ORDERS:
+        from .raw import is_dng, read_dng_header
+
+        data = stream.read()
+        if is_dng(data):
+            _, (width, height) = read_dng_header(data)
+            if width * height > max_pixels or min(width, height) < MIN_SIDE_PX:
+                raise PhotoError(f"The raw image is {width} x {height} photosites, outside what glowtemp accepts.")
+            return "DNG"
+        stream = io.BytesIO(data)
+    image = _open_stream(stream, head)
+    try:
+        return _check_image(image, max_pixels)
+    finally:
+        image.close()
 
 
 def load_photo(source, *, max_pixels: int = 50_000_000, max_bytes: int = LARGEST_FILE_BYTES) -> Photo:

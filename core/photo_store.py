@@ -21,6 +21,7 @@ from pathlib import Path
 KEY_PATTERN = re.compile(r"[0-9a-f]{64}\.[a-z0-9]{1,8}")
 SUFFIX_PATTERN = re.compile(r"\.[a-z0-9]{1,8}")
 TEMPORARY_PREFIX = ".incoming-"
+STREAM_CHUNK_BYTES = 1 << 20
 
 
 class PhotoStoreError(ValueError):
@@ -93,16 +94,31 @@ class PhotoStore:
     def put(self, data: bytes, suffix: str) -> str:
         """Store ``data`` completely on disk and return its key (the same bytes share one file)."""
         key = photo_key(bytes(data), suffix)
+        return self._place(key, [data])
+
+    def put_stream(self, stream, key: str) -> str:
+        """Store the photo read from the binary ``stream`` in chunks under ``key``, which its bytes'
+        SHA-256 must match (else nothing is stored); returns the key."""
+        check_key(key)
+        return self._place(key, iter(lambda: stream.read(STREAM_CHUNK_BYTES), b""), expected=key.partition(".")[0])
+
+    def _place(self, key: str, chunks, expected: str | None = None) -> str:
+        """Write ``chunks`` to a temporary file, fsync, and rename it to ``key`` (see the module notes)."""
         final = self.folder / key
         if final.exists():
             os.utime(final)  # stored again just now: not an old orphan (Logbook.forget_orphan_photos)
             return key
         temporary = self.folder / f"{TEMPORARY_PREFIX}{os.getpid()}-{secrets.token_hex(8)}"
+        digest = hashlib.sha256()
         try:
             with open(temporary, "xb") as handle:
-                handle.write(data)
+                for chunk in chunks:
+                    digest.update(chunk)
+                    handle.write(chunk)
                 handle.flush()
                 os.fsync(handle.fileno())
+            if expected is not None and digest.hexdigest() != expected:
+                raise PhotoStoreError(f"The photo {key} does not match its SHA-256 hash; it was not stored.")
             os.replace(temporary, final)
         except BaseException:
             temporary.unlink(missing_ok=True)

@@ -37,6 +37,15 @@ def log(tmp_path):
         yield book
 
 
+def tiny_jpeg(hours: float) -> bytes:
+    """A small JPEG of an invented glowing patch, different for each ``hours``."""
+    from PIL import Image
+
+    out = io.BytesIO()
+    Image.new("RGB", (16, 16), (200 + int(hours * 10), 80, 10)).save(out, "JPEG")
+    return out.getvalue()
+
+
 def make_firing(log):
     firing_id = log.create_firing(
         name="Cone 6 glaze", kiln="Electric, shelf 3", kind="glaze", target_cone="6",
@@ -47,7 +56,7 @@ def make_firing(log):
         (2.5, 1100, {"cone": "06", "cone_state": "bent", "note": "=cmd|' /C calc'!A0"}),
         (3.0, 1180, {"reference_c": -5.0, "note": "-5"}),
     ):
-        key = log.store_photo(f"jpeg bytes {hours}".encode() * 100, ".jpg")
+        key = log.store_photo(tiny_jpeg(hours), ".jpg")
         log.add_reading(photo_key=key, photo_name=f"spy {hours}.jpg", result=result_of(temperature_c),
                         taken_at=START + timedelta(hours=hours), firing_id=firing_id, **trusted)  # fmt: skip
     shared = log.readings_in(firing_id)[0]["photo_key"]  # the same photo used twice is stored once
@@ -167,9 +176,80 @@ def reading_without_result(manifest, members):
     del manifest["readings"][2]["result"]
 
 
+def replace_photo(new_bytes: bytes, suffix: str = ".jpg"):
+    """A change that swaps the first photo for ``new_bytes`` under its own SHA-256 name, listed
+    consistently in the manifest, so only what the bytes are can give it away."""
+    def change(manifest, members):
+        old_name = photo_names(members)[0]
+        old_key = old_name.removeprefix("photos/")
+        new_key = hashlib.sha256(new_bytes).hexdigest() + suffix
+        del members[old_name]
+        members["photos/" + new_key] = new_bytes
+        del manifest["photos"][old_key]
+        manifest["photos"][new_key] = {"sha256": new_key.partition(".")[0], "bytes": len(new_bytes)}
+        for reading in manifest["readings"]:
+            if reading["photo_key"] == old_key:
+                reading["photo_key"] = new_key
+
+    return change
+
+
+def png_bytes() -> bytes:
+    from PIL import Image
+
+    out = io.BytesIO()
+    Image.new("RGB", (16, 16), (200, 80, 10)).save(out, "PNG")
+    return out.getvalue()
+
+
+def on_result(key, value, index=0):
+    def change(manifest, members):
+        manifest["readings"][index]["result"][key] = value
+
+    return change
+
+
+def on_reading(key, value, index=0):
+    def change(manifest, members):
+        manifest["readings"][index][key] = value
+
+    return change
+
+
+def on_firing(key, value):
+    def change(manifest, members):
+        manifest["firing"][key] = value
+
+    return change
+
+
+def wrong_listed_size(manifest, members):
+    key = next(iter(manifest["photos"]))
+    manifest["photos"][key]["bytes"] += 1
+
+
 @pytest.mark.parametrize(
     "change, words",
     [
+        (replace_photo(b"<!doctype html><script>alert(1)</script>" * 20), "not a photo"),
+        (replace_photo(b""), "not a photo"),
+        (replace_photo(png_bytes()), "PNG photo under a name for another kind"),
+        (wrong_listed_size, "with its size"),
+        (on_reading("reference_c", 10**400), "thermocouple reading must lie between"),
+        (on_firing("target_c", -(10**400)), "target temperature must lie between"),
+        (on_firing("name", "kiln \ud800"), "surrogate"),
+        (on_reading("note", "\udfff"), "surrogate"),
+        (on_result("photo", "\ud800.jpg"), "surrogate"),
+        (on_result("interval_68_c", [900]), "interval_68_c must be a list of two numbers"),
+        (on_result("interval_95_c", [1000, 900]), "interval_95_c must run from low to high"),
+        (on_result("temperature_c", "900"), "temperature_c must be a number"),
+        (on_result("temperature_c", 10**400), "temperature_c must lie between"),
+        (on_result("warnings", "none"), "warnings must be a list"),
+        (on_result("pixels_used", -4), "pixels_used must be a whole number"),
+        (on_result("region", "1,2,3,4"), "region must be an object"),
+        (on_result("status", ["ok"]), "status must be a status word"),
+        (on_reading("taken_at", "0001-01-01T00:00:00+01:00"), "between the years"),
+        (on_firing("created_at", "9999-12-31T23:59:59-01:00"), "between the years"),
         (drop_photo, "lacks the photo"),
         (alter_photo, "SHA-256"),
         (alter_listed_hash, "SHA-256"),
@@ -211,7 +291,7 @@ def test_csv_has_units_in_headers_and_one_row_per_reading(log):
     assert [row["elapsed_h"] for row in rows] == ["1.0", "1.1", "2.5", "3.0"]
     assert rows[0]["estimate_c"] == "900" and rows[0]["band95_low_c"] == "875" and rows[0]["reference_c"] == "912.5"
     assert rows[0]["warnings"] == "auto-white-balance few-pixels"
-    assert rows[0]["photo_sha256"] == hashlib.sha256(b"jpeg bytes 1.0" * 100).hexdigest()
+    assert rows[0]["photo_sha256"] == hashlib.sha256(tiny_jpeg(1.0)).hexdigest()
     assert rows[2]["cone"] == "06" and rows[2]["cone_state"] == "bent"
 
 
@@ -232,3 +312,53 @@ def test_csv_defuses_formulas_but_keeps_negative_numbers(log):
 
 def test_csv_module_examples():
     assert doctest.testmod(glowtemp.logbook_csv).failed == 0
+
+
+def test_a_bundle_of_more_photos_than_the_limit_is_refused_before_reading(tmp_path, log, monkeypatch):
+    from glowtemp import bundle as bundle_module
+
+    data = bundle_bytes(log, make_firing(log))
+    monkeypatch.setattr(bundle_module, "MOST_PHOTOS", 2)  # the firing has 3 photos
+    with Logbook(tmp_path / "fresh") as fresh:
+        with pytest.raises(BundleError, match="holds 4 files; a firing's bundle holds at most 2 photos"):
+            import_bundle(fresh, io.BytesIO(data))
+        assert fresh.list_firings() == [] and list(fresh.photos.folder.iterdir()) == []
+
+
+def test_highly_compressible_members_are_read_in_chunks_not_whole(tmp_path, log):
+    # Three 60 MB photos that deflate to a few hundred KB: a valid JPEG followed by zeros (data
+    # after the EOI marker is ignored, ITU-T T.81 B.2.1). The last one's listed hash is wrong, so
+    # every member is read and checked and nothing is stored. Python's tracemalloc counts the
+    # bytes objects that reading them makes.
+    import tracemalloc
+
+    firing_id = log.create_firing(name="Padded", started_at=START)
+    padding = 60 * 1024 * 1024
+    for number in range(3):
+        photo = tiny_jpeg(number) + b"\0" * padding
+        key = log.store_photo(photo, ".jpg")
+        log.add_reading(photo_key=key, photo_name=f"{number}.jpg", result=result_of(900), taken_at=START, firing_id=firing_id)
+        del photo
+    source = tmp_path / "padded.zip"
+    with zipfile.ZipFile(source, "w", compression=zipfile.ZIP_DEFLATED) as out:
+        manifest = None
+        with zipfile.ZipFile(io.BytesIO(bundle_bytes(log, firing_id))) as made:  # stored, so about 180 MB
+            manifest = json.loads(made.read("manifest.json"))
+            manifest["photos"][sorted(manifest["photos"])[-1]]["sha256"] = "0" * 64
+            out.writestr("manifest.json", json.dumps(manifest))
+            for name in made.namelist():
+                if name != "manifest.json":
+                    with made.open(name) as member, out.open(name, "w") as copy:
+                        for chunk in iter(lambda: member.read(1 << 20), b""):
+                            copy.write(chunk)
+    assert source.stat().st_size < 3 * padding / 20
+    with Logbook(tmp_path / "fresh") as fresh:
+        tracemalloc.start()
+        try:
+            with pytest.raises(BundleError, match="SHA-256"):
+                import_bundle(fresh, source)
+            _, peak = tracemalloc.get_traced_memory()
+        finally:
+            tracemalloc.stop()
+        assert peak < 16 * 1024 * 1024, peak  # a 60 MB member was never held whole
+        assert fresh.list_firings() == [] and list(fresh.photos.folder.iterdir()) == []

@@ -1,5 +1,6 @@
 """The firing log's commands: glowtemp firings, export and import."""
 
+import io
 import json
 import zipfile
 from datetime import datetime, timezone
@@ -16,7 +17,9 @@ def data(tmp_path):
     folder = tmp_path / "data"
     with Logbook(folder) as log:
         firing_id = log.create_firing(name="Bisque 04", kind="bisque", target_cone="04")
-        key = log.store_photo(b"photo bytes", ".jpg")
+        photo = io.BytesIO()
+        Image.new("RGB", (16, 16), (220, 90, 10)).save(photo, "JPEG")  # an invented glowing patch
+        key = log.store_photo(photo.getvalue(), ".jpg")
         result = {"status": "ok", "temperature_c": 1000, "interval_68_c": [990, 1010], "interval_95_c": [975, 1025]}
         log.add_reading(photo_key=key, photo_name="spy.jpg", result=result, firing_id=firing_id,
                         taken_at=datetime(2024, 3, 1, 12, tzinfo=timezone.utc), reference_c=-1, note="=2+2")  # fmt: skip
@@ -39,9 +42,10 @@ def test_export_zip_then_import(data, tmp_path, capsys):
     other = tmp_path / "other"
     assert main(["import", str(bundle), "--data", str(other)]) == 0
     assert "imported as firing 1: Bisque 04 (1 readings)" in capsys.readouterr().out
-    with Logbook(other) as log:
+    with Logbook(other) as log, Logbook(data) as first:
         (reading,) = log.readings_in(1)
-        assert log.photo_path(reading["photo_key"]).read_bytes() == b"photo bytes"
+        (original,) = first.readings_in(1)
+        assert log.photo_path(reading["photo_key"]).read_bytes() == first.photo_path(original["photo_key"]).read_bytes()
 
 
 def test_export_csv_to_standard_output_and_curve(data, tmp_path, capsys):

@@ -1,7 +1,7 @@
 """Reading a request's JSON body: one object of plain values, or a 400 in plain words.
 
 JSON text is UTF-8 (RFC 8259, section 8.1). Before parsing, the body's nesting is measured
-without recursion, so "[[[[..." cannot exhaust Python's stack; integers are held to
+without recursion (:mod:`glowtemp.json_text`), so "[[[[..." cannot exhaust Python's stack; integers are held to
 :data:`LONGEST_INTEGER` digits and the non-standard ``NaN`` and ``Infinity`` are refused
 (RFC 8259, section 6, has no such numbers); every text, key or value, must be Unicode scalar
 values (a lone surrogate such as ``"\\ud800"`` is valid JSON escape syntax but cannot be
@@ -14,36 +14,12 @@ import json
 
 from flask import request
 
+from glowtemp.json_text import has_lone_surrogate, nesting_depth
+
 from .errors import ApiError
 
 DEEPEST_NESTING = 8  # a request object holds plain values; a list or two is plenty
 LONGEST_INTEGER = 30  # digits: far beyond any temperature, id or count
-
-
-def nesting_depth(text: str) -> int:
-    """The deepest nesting of ``[`` and ``{`` outside strings, counted without recursion.
-
-    >>> nesting_depth('{"a": [1, {"b": "[[["}]}')
-    3
-    """
-    depth = deepest = 0
-    in_string = escaped = False
-    for ch in text:
-        if in_string:
-            if escaped:
-                escaped = False
-            elif ch == "\\":
-                escaped = True
-            elif ch == '"':
-                in_string = False
-        elif ch == '"':
-            in_string = True
-        elif ch in "[{":
-            depth += 1
-            deepest = max(deepest, depth)
-        elif ch in "]}":
-            depth -= 1
-    return deepest
 
 
 def _integer(text: str) -> int:
@@ -54,26 +30,6 @@ def _integer(text: str) -> int:
 
 def _no_constant(name: str):
     raise ApiError(f"The request holds {name}, which is not a JSON number; send a plain number.")
-
-
-def _check_text(value) -> None:
-    """Refuse text that is not Unicode scalar values, anywhere in a parsed value."""
-    pending = [value]
-    while pending:
-        item = pending.pop()
-        if isinstance(item, dict):
-            pending.extend(item.keys())
-            pending.extend(item.values())
-        elif isinstance(item, list):
-            pending.extend(item)
-        elif isinstance(item, str):
-            try:
-                item.encode("utf-8")
-            except UnicodeEncodeError:
-                raise ApiError(
-                    "The request holds text with a lone surrogate (such as \\ud800), which is not a "
-                    "character; send plain Unicode text."
-                ) from None
 
 
 def json_object(example: str) -> dict:
@@ -90,5 +46,9 @@ def json_object(example: str) -> dict:
         raise ApiError(f"The request body is not valid JSON ({error}); send a JSON object such as {example}.") from None
     if not isinstance(body, dict):
         raise ApiError(f"The request body must be a JSON object such as {example}.")
-    _check_text(body)
+    if has_lone_surrogate(body):
+        raise ApiError(
+            "The request holds text with a lone surrogate (such as \\ud800), which is not a character; "
+            "send plain Unicode text."
+        )
     return body
