@@ -1,5 +1,9 @@
 """Load on `glowtemp serve`: 200 uploads of 12-megapixel JPEGs from 4 concurrent clients on loopback.
 
+With ``--photo png16`` the clients send instead one 49-megapixel 16-bit PNG (7000 x 7000, an
+invented glowing disc on a dark ground, about 300 KB since it is flat), the case that bounds
+the server's memory per upload (glowtemp.web.decode_gate); run it with ``--uploads 8``.
+
 Renders two 12 MP spy-hole photos (invented scenes at 1000 and 1150 °C, ISO 1600 so sensor noise
 gives the JPEGs a phone-like size) with glowtemp.synthetic, starts `glowtemp serve` in its own
 process on 127.0.0.1 with a fresh data folder, and has 4 client threads post the photos to
@@ -8,7 +12,10 @@ POST /api/readings in turn until 200 uploads are done. Prints throughput, median
 from /proc/PID/status, the high-water mark of its resident set) and checks afterwards that the
 log holds every reading with its own photo.
 
-Run: python bench/load.py [--uploads N] [--clients N]
+Also printed: the server's resident memory once the uploads are answered (VmRSS), what it
+keeps holding.
+
+Run: python bench/load.py [--uploads N] [--clients N] [--photo jpeg|png16]
 """
 
 from __future__ import annotations
@@ -42,10 +49,22 @@ def render_photos() -> list[bytes]:
             for n, t in enumerate(PHOTO_TEMPERATURES_C)]  # fmt: skip
 
 
-def peak_memory_mb(pid: int) -> float:
-    """The process's peak resident set (VmHWM, proc(5)) in MB."""
+def big_png16() -> list[bytes]:
+    """One 7000 x 7000 16-bit RGB PNG (libpng through imagecodecs) of an invented glowing disc."""
+    import imagecodecs
+    import numpy as np
+
+    side = 7000
+    codes = np.full((side, side, 3), 1200, np.uint16)
+    rows, columns = np.ogrid[:side, :side]
+    codes[(rows - side // 2) ** 2 + (columns - side // 2) ** 2 < (side // 6) ** 2] = (52000, 21000, 2500)
+    return [imagecodecs.png_encode(codes, level=9)]
+
+
+def memory_mb(pid: int, field: str = "VmHWM") -> float:
+    """The process's peak (VmHWM) or current (VmRSS) resident set, proc(5), in MB."""
     for line in Path(f"/proc/{pid}/status").read_text().splitlines():
-        if line.startswith("VmHWM:"):
+        if line.startswith(field + ":"):
             return int(line.split()[1]) / 1024
     return float("nan")
 
@@ -72,14 +91,16 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--uploads", type=int, default=200)
     parser.add_argument("--clients", type=int, default=4)
+    parser.add_argument("--photo", choices=("jpeg", "png16"), default="jpeg")
     args = parser.parse_args()
 
     started = time.perf_counter()
-    photos = render_photos()
+    photos = render_photos() if args.photo == "jpeg" else big_png16()
+    suffix = ".jpg" if args.photo == "jpeg" else ".png"
     bodies = [multipart(photo) for photo in photos]
     digests = [hashlib.sha256(photo).hexdigest() for photo in photos]
-    print(f"rendered {len(photos)} photos of {PHOTO_SIZE[0]} x {PHOTO_SIZE[1]} px "
-          f"({', '.join(f'{len(p) / 1e6:.1f} MB' for p in photos)}) in {time.perf_counter() - started:.1f} s")  # fmt: skip
+    print(f"made {len(photos)} {args.photo} photo(s) "
+          f"({', '.join(f'{len(p) / 1e6:.2f} MB' for p in photos)}) in {time.perf_counter() - started:.1f} s")  # fmt: skip
 
     with tempfile.TemporaryDirectory() as folder:
         server, base = start_server(Path(folder))
@@ -106,7 +127,7 @@ def main() -> None:
             for thread in clients:
                 thread.join()
             elapsed = time.perf_counter() - begun
-            peak_mb = peak_memory_mb(server.pid)
+            peak_mb, after_mb = memory_mb(server.pid), memory_mb(server.pid, "VmRSS")
         finally:
             server.terminate()
             server.wait(timeout=30)
@@ -120,7 +141,7 @@ def main() -> None:
             for number, status, _, answer in results:
                 if status == 201:
                     stored = log.get_reading(answer["id"])
-                    mixed += stored["photo_key"] != digests[number % len(photos)] + ".jpg"
+                    mixed += stored["photo_key"] != digests[number % len(photos)] + suffix
             stored_count = log._read("SELECT COUNT(*) FROM readings")[0][0]
 
     print(f"{args.uploads} uploads from {args.clients} concurrent clients on loopback in {elapsed:.1f} s")
@@ -133,6 +154,7 @@ def main() -> None:
         print(f"    upload {number}: HTTP {status}: {message}")
     print(f"  stored       {stored_count} readings, {mixed} with another upload's photo (target: {args.uploads}, 0)")
     print(f"  peak memory  {peak_mb:.0f} MB resident in the server process (VmHWM)")
+    print(f"  held after   {after_mb:.0f} MB resident once every upload was answered (VmRSS)")
 
 
 if __name__ == "__main__":

@@ -434,6 +434,24 @@ def _pillow_pixels(image: Image.Image) -> np.ndarray:
     return _three_channels(pixels, colour=planes == 3)
 
 
+def png_exif_chunk(data: bytes) -> bytes | None:
+    """The payload of a PNG's eXIf chunk wherever it lies (PNG 3rd ed., 11.3.6), found by walking
+    the chunk headers without inflating any image data; None when there is none.
+
+    Pillow looks for eXIf by decoding the whole image into its own 8-bit copy, which for a
+    16-bit photo (read by libpng instead) would double the memory a decode takes.
+    """
+    position = 8  # after the PNG signature
+    while position + 8 <= len(data):
+        length, kind = struct.unpack_from(">I4s", data, position)
+        if kind == b"eXIf":
+            return data[position + 8 : position + 8 + length]
+        if kind == b"IEND":
+            break
+        position += 12 + length  # length, type, data and CRC
+    return None
+
+
 def _png16_pixels(data: bytes) -> np.ndarray:
     """16-bit PNG pixels with libpng through imagecodecs (PNG 3rd ed., ISO/IEC 15948)."""
     from imagecodecs import _png
@@ -570,6 +588,26 @@ def _colour_encoding(icc_bytes, exif_ifd: dict, interop: dict, max_code: int, nc
 # --- the whole decode ----------------------------------------------------------------------
 
 
+def decoded_bytes(data: bytes) -> int:
+    """About how many bytes :func:`load_photo` will hold for the photo's pixels, from its header
+    alone: three channels of one byte, or two for 16-bit PNG and TIFF and for raw DNG files
+    (which LibRaw also unpacks whole). 0 for a file whose header cannot be read (refused at once)."""
+    try:
+        if data[:2] in TIFF_BYTE_ORDERS:
+            from .raw import is_dng, read_dng_header
+
+            if is_dng(data):
+                _, (width, height) = read_dng_header(data)
+                return width * height * 6
+        with _open(data) as image:
+            width, height = image.size
+            sixteen = (image.format == "PNG" and data[24] == 16) or (
+                image.format == "TIFF" and 16 in np.atleast_1d(image.tag_v2.get(258, 8)))  # fmt: skip
+    except (PhotoError, *DECODER_FAILURES):
+        return 0
+    return width * height * 3 * (2 if sixteen else 1)
+
+
 def photo_format(stream, *, max_pixels: int = 50_000_000) -> str:
     """The format (a key of :data:`STORED_SUFFIXES`) of the photo file in the seekable binary
     ``stream``, judged from its header alone, with every check :func:`load_photo` makes before
@@ -623,6 +661,9 @@ def load_photo(source, *, max_pixels: int = 50_000_000, max_bytes: int = LARGEST
         icc_bytes = image.info.get("icc_profile")
         nclx = image.info.get("nclx_profile")  # HEIF colour information without an ICC profile
         codes = _pixels(image, data, fmt)
+        if fmt == "PNG" and codes.dtype == np.uint16 and "exif" not in image.info:
+            chunk = png_exif_chunk(data)  # libpng read the pixels: keep Pillow from loading them too
+            image.info["exif"] = None if chunk is None else b"Exif\x00\x00" + chunk
         base, exif_ifd, interop = _exif(image)  # after the pixels: Pillow finds PNG eXIf late
     finally:
         image.close()  # frees Pillow's pixel memory now (leaving a `with` block does not)

@@ -446,3 +446,25 @@ def test_too_many_pixels_are_refused_from_the_header():
 def test_tiny_images_are_refused():
     assert "at least 8 x 8" in refusal(saved(random_rgb(7, 64), "PNG"))
     assert "at least 8 x 8" in refusal(saved(random_rgb(48, 5), "JPEG"))
+
+
+def test_16_bit_png_reads_its_exif_chunk_after_the_image_data_without_a_second_decode(monkeypatch):
+    # An eXIf chunk may follow IDAT (PNG 3rd ed., 11.3.6); its Orientation 6 turns the photo
+    # upright as CIPA DC-008 says. Pillow would find it only by decoding every pixel into its own
+    # 8-bit copy, so Pillow's load is made to fail here: the 16-bit codes come from libpng alone.
+    from photo_files import png_chunk
+
+    stored = random_rgb(dtype=np.uint16, top=65535)
+    data = png16(stored)
+    exif = exif_block(orientation=6).tobytes()[6:]  # without the "Exif\0\0" of JPEG APP1 (PNG 11.3.6)
+    iend = data.rindex(b"IEND") - 4
+    with_exif = data[:iend] + png_chunk(b"eXIf", exif) + data[iend:]
+
+    def no_pillow_decode(self, *args, **kwargs):
+        raise AssertionError("Pillow decoded the 16-bit PNG's pixels")
+
+    monkeypatch.setattr(Image.Image, "load", no_pillow_decode)
+    photo = load_photo(with_exif)
+    assert photo.codes.dtype == np.uint16
+    np.testing.assert_array_equal(photo.codes, upright(stored, 6))
+    assert load_photo(data).codes.shape == stored.shape  # no eXIf chunk at all

@@ -544,3 +544,80 @@ def test_serve_refuses_a_read_only_data_folder_in_its_words(tmp_path, monkeypatc
     assert main(["serve", "--port", "0", "--data", str(data)]) == 1
     err = capsys.readouterr().err
     assert f"The data folder {data} is read-only" in err and "cannot serve on" not in err
+
+
+# Memory per upload: decodes share a budget sized by the pixel limit (one photo of that many
+# pixels at 16 bits), and the cache keeps no photo larger than its byte limit.
+def png16_photo(width: int, height: int) -> bytes:
+    """A 16-bit RGB PNG (libpng through imagecodecs) of an invented glowing disc on a dark ground."""
+    import imagecodecs
+    import numpy as np
+
+    codes = np.full((height, width, 3), 1200, np.uint16)
+    rows, columns = np.ogrid[:height, :width]
+    codes[(rows - height // 2) ** 2 + (columns - width // 2) ** 2 < (min(width, height) // 4) ** 2] = (52000, 21000, 2500)
+    return imagecodecs.png_encode(codes)
+
+
+def test_concurrent_16_bit_decodes_at_the_pixel_limit_run_one_at_a_time(tmp_path, monkeypatch):
+    import threading
+
+    from glowtemp.web import create_app, uploads
+
+    pixels = 400 * 300
+    app = create_app({"DATA_DIR": tmp_path / "data", "MAX_PHOTO_PIXELS": pixels})
+    photo = png16_photo(400, 300)  # at the limit: 6 bytes a pixel fill the whole budget
+    real_decode, overlaps, meeting = uploads.decode, [], threading.Barrier(2, timeout=0.5)
+
+    def decode_that_looks_for_company(data):
+        try:
+            meeting.wait()  # returns only if a second decode is running at the same time
+            overlaps.append(True)
+        except threading.BrokenBarrierError:
+            meeting.reset()
+        return real_decode(data)
+
+    monkeypatch.setattr(uploads, "decode", decode_that_looks_for_company)
+
+    def send():
+        answer = app.test_client().post("/api/readings", data={"photo": (io.BytesIO(photo), "big.png")})
+        assert answer.status_code == 201, answer.get_json()
+
+    clients = [threading.Thread(target=send) for _ in range(4)]
+    for thread in clients:
+        thread.start()
+    for thread in clients:
+        thread.join(timeout=120)
+    assert overlaps == [] and app.extensions["glowtemp"]["decodes"].reserved_bytes == 0
+    assert stored_state(app)[0] == 4
+
+
+def test_small_photos_still_decode_side_by_side():
+    import threading
+
+    from glowtemp.web.decode_gate import DecodeGate
+
+    gate = DecodeGate.for_pixel_limit(50_000_000)
+    inside = threading.Barrier(4, timeout=10)
+
+    def decode_a_12_mp_jpeg():
+        with gate.admit(12_000_000 * 3):
+            inside.wait()  # all four are inside the gate together
+
+    threads = [threading.Thread(target=decode_a_12_mp_jpeg) for _ in range(4)]
+    for thread in threads:
+        thread.start()
+    for thread in threads:
+        thread.join(timeout=20)
+    assert not inside.broken and gate.reserved_bytes == 0
+
+
+def test_the_photo_cache_keeps_no_photo_beyond_its_byte_limit():
+    from glowtemp.photo import load_photo
+    from glowtemp.web.photo_cache import PhotoCache
+
+    small, large = load_photo(png16_photo(64, 48)), load_photo(png16_photo(400, 300))
+    cache = PhotoCache(size=2, bytes_kept=large.codes.nbytes - 1)
+    cache.put("small", small)
+    cache.put("large", large)
+    assert cache.get("large") is None and cache.get("small") is small

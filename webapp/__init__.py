@@ -54,6 +54,7 @@ def create_app(config: dict | None = None) -> Flask:
     from glowtemp.sessions import SessionStore
 
     from . import access, api, errors, firings, headers, limits, maps, measuring, pages
+    from .decode_gate import DecodeGate
     from .pairing import PairingCodes
     from .photo_cache import PhotoCache
 
@@ -61,6 +62,7 @@ def create_app(config: dict | None = None) -> Flask:
     app.extensions["glowtemp"] = {
         "logbook": logbook,
         "photos": PhotoCache(),
+        "decodes": DecodeGate.for_pixel_limit(app.config["MAX_PHOTO_PIXELS"]),
         "sessions": SessionStore(logbook.database_path),
         "pairing": PairingCodes() if app.config.get("PAIRING") else None,
     }

@@ -6,7 +6,8 @@ firing's readings (its page form and ``POST /api/firings/<id>/readings``).
 - The cheap checks come first (region, camera profile, trusted values), then the photo is
   decoded. Its type is decided by its content (:func:`glowtemp.photo.load_photo`), its size is
   bounded by ``MAX_CONTENT_LENGTH`` (413, before any of it is read into the app) and its pixel
-  count by ``MAX_PHOTO_PIXELS`` (422, from the header, before any pixel is decoded).
+  count by ``MAX_PHOTO_PIXELS`` (422, from the header, before any pixel is decoded). Decodes
+  running at once share a budget of memory (:mod:`glowtemp.web.decode_gate`).
 - The name a photo is kept under is made here from its content and format
   (``photo-3f2a9c1b04de.jpg``): nothing the client sends, such as its file name, is stored.
 - The photo file is complete on disk before the reading's row is committed, and removed again
@@ -107,12 +108,14 @@ def captured_at_from(fields: dict) -> str | None:
 
 def stored_photo(key: str):
     """The decoded stored photo with ``key``, from the cache of recently decoded photos if there."""
-    from glowtemp.photo import load_photo
+    from glowtemp.photo import decoded_bytes, load_photo
 
     services = current_app.extensions["glowtemp"]
     photo = services["photos"].get(key)
     if photo is None:
-        photo = load_photo(services["logbook"].photo_path(key))
+        data = services["logbook"].photo_path(key).read_bytes()
+        with services["decodes"].admit(decoded_bytes(data)):  # see glowtemp.web.decode_gate
+            photo = load_photo(data)
         services["photos"].put(key, photo)
     return photo
 
@@ -189,7 +192,7 @@ def take_upload(fields: dict, firing_id: int | None = None, trusted: dict | None
     taken_at). Raises :class:`ApiError` with nothing stored when any part is refused.
     """
     from glowtemp.logbook import LogbookError, UploadConflict
-    from glowtemp.photo import STORED_SUFFIXES
+    from glowtemp.photo import STORED_SUFFIXES, decoded_bytes
 
     upload_id, captured_at = upload_id_from(fields), captured_at_from(fields)
     data = uploaded_bytes()
@@ -197,10 +200,11 @@ def take_upload(fields: dict, firing_id: int | None = None, trusted: dict | None
     if again is not None:
         return again
     region, profile = region_from(fields), profile_from(fields)
-    photo = decode(data)
-    name = stored_name(data, photo)
-    result = measure_photo(photo, region, profile, name)
     services = current_app.extensions["glowtemp"]
+    with services["decodes"].admit(decoded_bytes(data)):  # see glowtemp.web.decode_gate
+        photo = decode(data)
+        name = stored_name(data, photo)
+        result = measure_photo(photo, region, profile, name)
     log = services["logbook"]
     trusted = dict(trusted or {})
     trusted.setdefault("taken_at", photo.metadata.taken_at or captured_at or datetime.now(timezone.utc))
