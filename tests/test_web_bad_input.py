@@ -449,7 +449,8 @@ def test_waitress_refuses_an_oversized_upload_in_the_apps_json_words(tmp_path):
         assert head.startswith(b"HTTP/1.1 413") and b"application/json" in head
         assert json.loads(body)["error"] == "The upload is larger than 64 MB; send a smaller photo."
     finally:
-        server.close()
+        server.trigger.pull_trigger(server.close)  # closed by its own loop, which then ends
+        thread.join(timeout=30)
 
 
 # A full disk or a read-only data folder: 507 or 503 in plain words, nothing stored. Tests run
@@ -472,6 +473,7 @@ def photo_writes_fail(code):
 
 def database_full(monkeypatch, app):
     db = app.extensions["glowtemp"]["logbook"]._db
+    db.execute("VACUUM")  # no free pages left for the new row to use
     db.execute(f"PRAGMA max_page_count = {db.execute('PRAGMA page_count').fetchone()[0]}")
 
 
@@ -495,7 +497,7 @@ def test_storage_failures_answer_507_or_503_and_store_nothing(web_app, web_clien
     if what == "reading":
         answer = web_client.post("/api/readings", data={"photo": (io.BytesIO(two_halves_jpeg), "a.jpg")})
     else:
-        answer = web_client.post("/api/firings", json={"name": "Full", "notes": "n" * 4000})
+        answer = web_client.post("/api/firings", json={"name": "Full", "notes": "n" * 5000})  # > one 4 KB page
     monkeypatch.undo()
     assert answer.status_code == status, answer.get_json()
     message = answer.get_json()["error"]
