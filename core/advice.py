@@ -85,8 +85,10 @@ def not_glow_colour() -> Advice:
 def ambiguous() -> Advice:
     return Advice(
         "ambiguous-colour",
-        "The colour fits two separate temperatures equally well, so no single estimate is given.",
-        "Retake the photo with a daylight white balance and the glow filling more of the region.",
+        "The photo fits two separate temperatures (cameras differ in how they record this "
+        "colour), so only the range that holds both is given.",
+        "Keep the exposure data with the photo, lock a daylight white balance, or make a camera "
+        "profile from a thermocouple or cone reading.",
     )
 
 
@@ -127,11 +129,33 @@ def below_glow() -> Advice:
     )
 
 
-def above_range(top_c: float) -> Advice:
+def daylight_or_lamp() -> Advice:
     return Advice(
-        "above-range",
-        f"The colour is at or beyond the hottest glow glowtemp models (about {top_c:.0f} °C).",
-        "Lower the exposure and check that the region holds glow and not a lamp or flame.",
+        "daylight-or-lamp",
+        "This looks like daylight or lamp light, not glow: its colour is whiter than anything "
+        "glowing in a kiln or forge (work here tops out near 1600 °C).",
+        "Photograph the glowing work itself, in a dim shop or through the spy hole, and draw the "
+        "region on the glow.",
+    )
+
+
+def colour_only(reason: str) -> Advice:
+    return Advice(
+        "colour-only",
+        f"Read from colour alone: {reason}, so brightness could not help.",
+        "Send the photo as the camera saved it (no editing app, no HDR or night mode), so its "
+        "exposure time, f-number and ISO stay with it.",
+    )
+
+
+def channels_disagree() -> Advice:
+    return Advice(
+        "channels-disagree",
+        "Colour and brightness point to different heats, so the range given holds both. The "
+        "exposure data may not describe these pixels (HDR, night mode, a filter or a dirty "
+        "window), the scene kind may be wrong, or the surface is not a grey body.",
+        "Turn off HDR and night modes, check the scene kind chosen for this photo, and compare "
+        "with a thermocouple.",
     )
 
 

@@ -66,7 +66,7 @@ def collect_photos(inputs) -> list[str]:
     return paths
 
 
-def measure_file(path: str, region=None, profile=None) -> Measured:
+def measure_file(path: str, region=None, profile=None, scene: str = "other") -> Measured:
     """Decode and measure one photo file, as ``glowtemp measure`` does."""
     from .photo import PhotoError, load_photo
     from .reading import measure
@@ -74,7 +74,7 @@ def measure_file(path: str, region=None, profile=None) -> Measured:
 
     try:
         photo = load_photo(path)
-        reading = measure(photo, region, photo_name=path, profile=profile)
+        reading = measure(photo, region, photo_name=path, profile=profile, scene=scene)
     except (PhotoError, RegionError, OSError) as error:
         return Measured(path, None, getattr(error, "strerror", None) or str(error))
     return Measured(path, reading.to_dict(), None, photo.format)
@@ -134,7 +134,8 @@ def _shared_work(work, paths, jobs: int):
         pool.shutdown(cancel_futures=True)
 
 
-def measure_many(paths, *, region=None, profile=None, jobs: int | None = None, progress: bool | None = None):
+def measure_many(paths, *, region=None, profile=None, scene: str = "other", jobs: int | None = None,
+                 progress: bool | None = None):
     """Measure photo files on ``jobs`` processes; yields :class:`Measured` in the order of ``paths``.
 
     ``jobs=None`` uses all cores from :data:`POOL_FROM_PHOTOS` photos on, else this process.
@@ -144,7 +145,7 @@ def measure_many(paths, *, region=None, profile=None, jobs: int | None = None, p
     if jobs is None:
         jobs = (os.cpu_count() or 1) if len(paths) >= POOL_FROM_PHOTOS else 1
     jobs = max(1, min(jobs, len(paths)))
-    work = partial(measure_file, region=region, profile=profile)
+    work = partial(measure_file, region=region, profile=profile, scene=scene)
     results = map(work, paths) if jobs == 1 else _shared_work(work, paths, jobs)
     bar = progress_bar(len(paths), progress) if len(paths) > 1 else None
     try:

@@ -48,7 +48,7 @@ def _measure_files(args, paths, region, profile) -> int:
     with ExitStack() as files:
         table = csv_writer(files.enter_context(open(args.csv, "w", encoding="utf-8", newline=""))) if args.csv else None
         lines = files.enter_context(open(args.jsonl, "w", encoding="utf-8")) if args.jsonl else None
-        for measured in measure_many(paths, region=region, profile=profile, jobs=args.jobs):
+        for measured in measure_many(paths, region=region, profile=profile, scene=args.scene, jobs=args.jobs):
             record = measured.result or {"photo": measured.path, "error": measured.error}
             if measured.error:
                 failures += 1
@@ -75,8 +75,8 @@ def _measure_with_map(args, path, region, profile) -> int:
     image_format = "svg" if args.map.lower().endswith(".svg") else "png"
     try:
         photo = load_photo(path)
-        reading = measure(photo, region, photo_name=path, profile=profile)
-        tile_map = temperature_map(photo, reading.region, tiles=args.tiles, profile=profile)
+        reading = measure(photo, region, photo_name=path, profile=profile, scene=args.scene)
+        tile_map = temperature_map(photo, reading.region, tiles=args.tiles, profile=profile, scene=args.scene)
         drawn = draw_map(photo, tile_map, unit="F" if args.fahrenheit else "C", image_format=image_format)
         with open(args.map, "wb") as handle:
             handle.write(drawn)
@@ -150,16 +150,23 @@ def describe_profile(record: dict) -> str:
     """A profile's fit, each pair's residual and the span, for people."""
     low, high = record["span_c"]
     camera = record["camera"].get("camera_model") or "unnamed camera"
-    scatter = "measured" if record["scatter_measured"] else "assumed (fewer than 3 pairs)"
     lines = [
         f"profile {record['name']}: {camera}, {record['colour_space']}, "
         f"{len(record['pairs'])} pairs spanning {low:.0f}-{high:.0f} °C",
-        f"  green/red = {record['parameters']['offset']:+.4f} + {record['parameters']['gain']:.3f} x ideal; "
-        f"scatter {record['scatter']:.4f}, {scatter}",
     ]
-    for pair, residual in zip(record["pairs"], record["residuals_c"]):
-        source = f"cone {pair['cone']}" if pair["cone"] else "thermocouple"
-        lines.append(f"  {pair['photo']}: trusted {pair['reference_c']:.0f} °C ({source}), residual {residual:+.0f} °C")
+    if record["parameters"] is not None:
+        scatter = "measured" if record["scatter_measured"] else "assumed (fewer than 3 pairs)"
+        lines.append(f"  green/red = {record['parameters']['offset']:+.4f} + {record['parameters']['gain']:.3f} x ideal; "
+                     f"scatter {record['scatter']:.4f}, {scatter}")
+    if record.get("brightness"):
+        fit = record["brightness"]
+        lines.append(f"  exposure constant ln {fit['log_constant']:+.2f} ± {fit['sigma']:.2f} "
+                     f"from {fit['pairs']} pairs ({fit['scene']} scene)")
+    residuals = iter(record["residuals_c"])
+    for pair in record["pairs"]:
+        source = {"cone": f"cone {pair['cone']}", "magnet": "magnet let go (approximate)"}.get(pair["reference_kind"], "thermocouple")
+        residual = f", colour residual {next(residuals):+.0f} °C" if pair["green_ratio"] is not None else ", no colour part"
+        lines.append(f"  {pair['photo']}: trusted {pair['reference_c']:.0f} °C ({source}){residual}")
     return "\n".join(lines)
 
 
@@ -171,7 +178,8 @@ def describe(result: dict) -> str:
         low95, high95 = result["interval_95_c"]
         text = (
             f"{name}: {result['temperature_c']} °C, likely {low68}-{high68} °C (68 %), "
-            f"{low95}-{high95} °C (95 %), heat colour {result['glow_name']} (names are loose)"
+            f"{low95}-{high95} °C (95 %), heat colour {result['glow_name']} (names are loose), "
+            f"{result['channels_text']}"
         )
     elif result["status"] == "wide":
         low95, high95 = result["interval_95_c"]
@@ -225,6 +233,9 @@ def build_parser() -> argparse.ArgumentParser:
     where.add_argument("--region", metavar="X,Y,W,H", help="rectangle in photo pixels")
     where.add_argument("--circle", metavar="CX,CY,R", help="circle in photo pixels")
     measure.add_argument("--profile", metavar="NAME", help="camera profile to apply")
+    measure.add_argument("--scene", choices=("kiln", "steel", "other"), default="other",
+                         help="what is photographed, for the brightness channel's emissivity: a kiln's "
+                              "inside through a spy hole, hot oxidised steel, or other (default)")
     measure.add_argument("--data", metavar="DIR", help="data folder (profiles, firing log)")
     measure.add_argument("--json", action="store_true", help="one JSON object per photo per line")
     measure.add_argument("--csv", metavar="FILE", help="write one row per photo to a CSV file")

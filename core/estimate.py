@@ -6,58 +6,104 @@ a kiln interior seen through a spy hole (close to a black cavity) or a dull oxid
 (roughly grey over the visible band) gives the same ratios as a blackbody of its temperature.
 Bright metal, some glazes and flames are not grey and bias the result.
 
-The model predicts the ratios that an ideal colorimetric camera records in the photo's RGB
-space: blackbody XYZ from :mod:`glowtemp.locus`, converted to that space with negative
-components clipped to zero. Each ratio has a Gaussian likelihood whose variance adds
+The model predicts the ratios a camera records. Uncalibrated, the cameras are a population
+(:mod:`glowtemp.population`): real measured sensors and invented ones, each with a maker's
+colour matrix, white-balance preset error, saturation, highlight roll-off and tone curve, at the
+photo's recorded red level. The likelihood is the members' mixture, so the band is wide where
+cameras disagree and narrow where they agree; a mixture rather than one fitted camera term,
+because the members' ratios are far from Gaussian about their mean (green clips to zero for
+some cameras at heats where others still record it). A camera profile
+(:mod:`glowtemp.profile`) replaces the population with one fitted camera (:class:`CameraTerm`).
+Each member's ratios have a Gaussian likelihood whose variance adds the measurement variance
+(delta method on the channel standard errors, which include quantisation; see
+:mod:`glowtemp.sampling`) and what a member leaves unmodelled (JPEG chroma subsampling and
+DCT error, demosaicing, local processing).
 
-- the measurement variance of the observed ratio (delta method on the channel standard
-  errors, which already include quantisation; see :mod:`glowtemp.sampling`), and
-- a *camera term*: a real camera's spectral sensitivities, colour matrix and processing differ
-  from the ideal one. Rendered through measured and parametric cameras, glow's green/red came
-  out shifted by up to about +/-0.02 (in units of red) at every temperature, more an offset than
-  a scale, so the term has an additive part per channel (``green_floor``, ``blue_floor``) and a
-  small proportional part (``ratio_sigma``). Below about 1900 K an sRGB blackbody's blue is out
-  of gamut: what a camera records there is crosstalk, noise and JPEG chroma error, hence the
-  wider blue floor.
+With exposure data, the brightness channel (:mod:`glowtemp.brightness`) multiplies in, member
+by member, on the same grid: one posterior from colour and brightness.
 
-The posterior on a 1 K grid (flat prior in T from 700 K to 4000 K) gives the median and equal-
-tailed 68 % and 95 % credible intervals. When the best fit is poor the variances are scaled by
-chi^2 / dof (the scale-factor method of the Particle Data Group); when it is very poor, or the
-posterior has two separate modes (two heats far apart fit), the estimate is refused.
+The posterior on a 2 K grid (flat prior in T from 700 K to 2400 K; glow in this trade tops out
+near 1600 °C) gives the median and equal-tailed 68 % and 95 % credible intervals. When the best
+fit is poor the variances are scaled by chi^2 / dof (the scale-factor method of the Particle
+Data Group); when it is very poor the colour is no glow, and a colour whiter than glow reaches
+here is daylight or lamp light. A posterior with two separate modes is refused as ambiguous.
 
 References
 ----------
 - D. S. Sivia and J. Skilling, Data Analysis: A Bayesian Tutorial, 2nd ed., OUP (2006), ch. 2-3
   (grid posterior, credible intervals, nuisance scales).
 - JCGM 100:2008 (GUM), section 5.1.2 (law of propagation of uncertainty for a ratio).
+- G. J. McLachlan and D. Peel, Finite Mixture Models, Wiley (2000), ch. 1.
 - R. L. Workman et al. (Particle Data Group), Prog. Theor. Exp. Phys. 2022, 083C01,
   "Introduction", section 5.2.2 (scale factor S = sqrt(chi^2 / dof)).
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+import math
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from .colourspaces import SRGB, RGBSpace
-from .locus import blackbody_table, locus_ratios
+from . import brightness as brightness_channel
+from .colourspaces import LINEAR_ROMM, SRGB, RGBSpace, srgb_encode
+from .locus import TABLE_MIN_K, TABLE_STEP_K, blackbody_table, locus_ratios
+from .population import Population, camera_population
 
+GRID_K = np.arange(700.0, 2400.0 + 1.0, 2.0)  # the posterior's grid
 POOR_FIT_P = 0.01  # below this p-value the variances are scaled (PDG scale factor)
 REFUSE_CHI2 = 60.0  # chi^2 per degree of freedom beyond which the colour is not glow
 WIDE_HALF_WIDTH_K = 150.0  # a 68 % band wider than +/-150 K names a range, not one heat
+WHITER_THAN_GLOW_K = 1973.15  # 1700 °C: beyond the trade's hottest work (about 1600 °C, common practice)
+# A whitish light (daylight, a lamp): green/red in this range and blue no stronger than green
+# by more than this factor. Lamps from about 2400 K (green/red 0.35) to daylight at 6500 K (0.94)
+# fall inside (blackbodies in sRGB by colour-science); green, blue and magenta lights do not.
+WHITISH_GREEN = (0.3, 1.3)
+WHITISH_BLUE_OVER_GREEN = 1.3
+# What one population member leaves unmodelled, per ratio: a floor (in units of red) and a
+# proportional part. Sized on rendered JPEGs of the population's own members, whose recorded
+# ratios scatter about the member's table by about this much (4:2:0 chroma, DCT, 8-bit codes).
+MEMBER_FLOOR = np.array([0.004, 0.01])
+MEMBER_RATIO_SIGMA = 0.03
+# Bhattacharyya coefficient (A. Bhattacharyya, Bull. Calcutta Math. Soc. 35 (1943) 99) of the
+# two channels' posteriors below which they disagree: then one of them is wrong (HDR, a filter,
+# a surface that is not grey), and the reading gives the range both allow instead of a product
+# sitting in the tails of each.
+CHANNELS_AGREE = 0.2
+
+
+@dataclass(frozen=True)
+class Cameras:
+    """What a set of cameras records from a blackbody on :data:`GRID_K`, as a mixture.
+
+    ``ratios`` and ``variance`` (members, grid, 2) are green/red and blue/red and the camera part
+    of their variance; ``log_response`` (members, grid) is ln(recorded red / the ideal camera's
+    red under ISO 12232) for the brightness channel, ``departure_sigma`` the spread of the rest.
+    """
+
+    ratios: np.ndarray
+    variance: np.ndarray
+    log_response: np.ndarray
+    weights: np.ndarray
+    departure_sigma: float = brightness_channel.DEPARTURE_SIGMA
+    white_balance_factors: np.ndarray = field(default_factory=lambda: np.ones((1, 2)))  # (whites, 2)
+
+
+def _on_grid(values_by_table_k):
+    """Values on the 1 K blackbody table picked at :data:`GRID_K` (the grid's points are on it)."""
+    index = np.rint((GRID_K - TABLE_MIN_K) / TABLE_STEP_K).astype(int)
+    return values_by_table_k[..., index, :] if values_by_table_k.ndim > 1 else values_by_table_k[index]
 
 
 @dataclass(frozen=True)
 class CameraTerm:
-    """How a camera's recorded ratios relate to the ideal colorimetric camera's, with spreads.
+    """One camera, as a camera profile fits it: recorded green/red ``offset + gain * g_ideal``.
 
-    The recorded green/red is modelled as ``offset + gain * g_ideal`` (``g_ideal`` unclipped,
-    the result clipped at zero, as a camera clips), which is what a small error in a camera's
-    colour matrix does to a colour whose blue is negligible. Uncalibrated, gain is 1 and offset
-    0 with 1-sigma spreads sized by rendering blackbodies through colour-science's two
-    NPL-measured cameras and parametric ones (``bench/accuracy.py``); a camera profile supplies
-    fitted values and their covariance instead (:mod:`glowtemp.profile`).
+    ``g_ideal`` is the unclipped green/red of the ideal colorimetric camera (the result clipped at
+    zero, as a camera clips), which is what a small error in a camera's colour matrix does to a
+    colour whose blue is negligible. The spreads are the fit's (:mod:`glowtemp.profile`); beyond
+    the pairs' span an extrapolation term grows with the distance. ``log_response`` and
+    ``departure_sigma`` are the brightness channel's fitted exposure constant and its spread.
     """
 
     ratio_sigma: float = 0.05
@@ -66,12 +112,13 @@ class CameraTerm:
     green_gain: float = 1.0
     green_offset: float = 0.0
     offset_gain_covariance: tuple = ((0.0, 0.0), (0.0, 0.0))
-    white_balance_factors: tuple = (1.0,)
     fitted_span: tuple | None = None  # ideal green/red at the ends of a profile's pairs
     extrapolation_sigma: float = 0.0  # spread per unit of ideal green/red beyond that span
+    log_response: float = 0.0
+    departure_sigma: float = brightness_channel.DEPARTURE_SIGMA
 
     def model(self, space: RGBSpace):
-        """Predicted (green/red, blue/red) on the table grid and the camera part of their variance."""
+        """Predicted (green/red, blue/red) on the 1 K table grid and the camera part of their variance."""
         ideal = locus_ratios(space, clipped=False)[:, 0]
         green = np.clip(self.green_offset + self.green_gain * ideal, 0.0, None)
         ratios = np.column_stack([green, locus_ratios(space)[:, 1]])
@@ -87,36 +134,124 @@ class CameraTerm:
             variance[:, 0] += (self.extrapolation_sigma * beyond) ** 2
         return ratios, variance
 
+    def cameras(self, space: RGBSpace) -> Cameras:
+        """This one camera as a one-member :class:`Cameras`."""
+        ratios, variance = self.model(space)
+        return Cameras(
+            ratios=_on_grid(ratios)[None],
+            variance=_on_grid(variance)[None],
+            log_response=np.full((1, GRID_K.size), self.log_response),
+            weights=np.ones(1),
+            departure_sigma=self.departure_sigma,
+        )
 
-UNCALIBRATED = CameraTerm()
 
-# Auto white balance pulls glow towards neutral: it raises green/red and blue/red by an unknown
-# factor. Rendered with a grey-world balance capped at a 2000 K white (glowtemp.synthetic), the
-# factor reached 5 to 6 on a glow-filled frame; real phones differ. The estimate marginalises
-# over factors from 1 to 8, log-uniform (Sivia and Skilling, ch. 3: nuisance parameters).
-AUTO_WHITE_BALANCE_FACTORS = tuple(np.geomspace(1.0, 8.0, 25))
+def population_cameras(space: RGBSpace, red_level: float, population: Population | None = None,
+                       auto_white_balance: bool = False) -> Cameras | None:
+    """The population's members in ``space`` at a recorded red level (share of full code), on
+    :data:`GRID_K`, white-balanced by their daylight preset or automatically; None when the
+    population has no table for that space."""
+    population = population or camera_population()
+    if not population.knows(space.name, auto_white_balance):
+        return None
+    ratios, response = population.at_level(space.name, red_level, auto_white_balance)
+    grid = population.temperature_k
+    interpolate = lambda table: np.stack([np.interp(GRID_K, grid, row) for row in table])  # noqa: E731
+    ratios = np.stack([interpolate(ratios[..., 0]), interpolate(ratios[..., 1])], axis=-1)
+    variance = (MEMBER_RATIO_SIGMA * ratios) ** 2 + MEMBER_FLOOR**2
+    weights = population.weights[population.keep]
+    departure = brightness_channel.RAW_DEPARTURE_SIGMA if space is LINEAR_ROMM else brightness_channel.DEPARTURE_SIGMA
+    return Cameras(ratios, variance, interpolate(response), weights / weights.sum(), departure)
 
 
-def with_auto_white_balance(camera: CameraTerm) -> CameraTerm:
-    """The camera term for a photo whose white balance the camera chose itself."""
-    return replace(camera, white_balance_factors=AUTO_WHITE_BALANCE_FACTORS)
+UNCALIBRATED = CameraTerm()  # the ideal camera with fixed spreads: for spaces the population lacks
+
+# Auto white balance pulls glow towards neutral: the camera balances for a white it guesses from
+# the frame. The population carries that for its members (glowtemp.population_build); a single
+# profiled camera gets it as unknown factors on green/red and blue/red: balancing for a white
+# of temperature T_w instead of daylight multiplies them by the daylight white's ratios over
+# T_w's (von Kries), with T_w log-uniform from 2600 K to 3500 K: glow drives the balance to its
+# warmest white, which differs between phones (common practice, from memory; Sivia and
+# Skilling, ch. 3: nuisance parameters).
+# Auto white balance also moves the red gain by an unknown amount, so such photos get no
+# brightness channel (glowtemp.reading).
+AUTO_WHITE_BALANCE_WHITES_K = tuple(np.geomspace(2600.0, 3500.0, 9))
+DAYLIGHT_WHITE_K = 5500.0  # the daylight preset's white, as a Planckian stand-in
+
+
+def auto_white_balance_factors(space: RGBSpace) -> np.ndarray:
+    """(whites, 2) factors on green/red and blue/red of balancing for each guessed white."""
+    from .locus import blackbody_xyz
+
+    whites = np.array([*AUTO_WHITE_BALANCE_WHITES_K, DAYLIGHT_WHITE_K])
+    rgb = np.clip(blackbody_xyz(whites) @ space.xyz_to_rgb.T, 1e-12, None)
+    ratios = rgb[:, 1:] / rgb[:, :1]
+    return ratios[-1] / ratios[:-1]
+
+
+def glow_limits(cameras: Cameras, ratio_errors) -> np.ndarray:
+    """The largest green/red and blue/red glow up to :data:`WHITER_THAN_GLOW_K` can show with
+    these cameras: the members' largest at that heat, times the largest white-balance factor,
+    with a margin of half again and three standard errors of the observation."""
+    top = int(np.searchsorted(GRID_K, WHITER_THAN_GLOW_K))
+    largest = cameras.ratios[:, top, :].max(axis=0) + np.sqrt(cameras.variance[:, top, :].max(axis=0))
+    return 1.5 * largest * cameras.white_balance_factors.max(axis=0) + 3.0 * np.asarray(ratio_errors)
+
+
+@dataclass(frozen=True)
+class Brightness:
+    """The brightness observation: ln of the recorded linear red, its standard error, the photo's
+    exposure (:class:`glowtemp.brightness.Exposure`), the scene's emissivity bounds, and the
+    ideal camera's red per unit of absolute XYZ in the photo's space."""
+
+    log_red: float
+    log_red_sigma: float
+    log_scale: float
+    emissivity_bounds: tuple
+    ideal_red: np.ndarray  # on GRID_K
+
+
+def brightness_observation(mean_red, red_error, exposure, scene: str, space: RGBSpace) -> Brightness:
+    """Put together the brightness channel's data for one region."""
+    ideal_red = np.clip(_on_grid(blackbody_table().xyz) @ space.xyz_to_rgb[0], 1e-300, None)
+    return Brightness(
+        log_red=math.log(mean_red),
+        log_red_sigma=float(red_error) / float(mean_red),
+        log_scale=exposure.log_scale,
+        emissivity_bounds=brightness_channel.scene_bounds(scene),
+        ideal_red=ideal_red,
+    )
 
 
 @dataclass(frozen=True)
 class TemperatureEstimate:
-    """A temperature posterior summarised for people and programs (kelvin)."""
+    """A temperature posterior summarised for people and programs (kelvin).
+
+    ``channels`` names what set the band ("colour", "brightness"); ``colour_status`` is what
+    colour alone said (e.g. "upper-bound" where brightness then gave the estimate);
+    ``refusal`` names why a colour is no glow ("not-glow-colour" or "daylight-or-lamp").
+    """
 
     temperature_k: float | None
     interval_68_k: tuple[float, float] | None
     interval_95_k: tuple[float, float] | None
     chi2: float
     scale_factor: float
-    status: str  # "ok", "wide", "upper-bound", "ambiguous", "not-glow", "no-data", "clipped"
-    at_table_top: bool = False
+    status: str  # "ok", "wide", "upper-bound", "not-glow", "no-data", "clipped"
+    channels: tuple = ()
+    colour_status: str | None = None
+    refusal: str | None = None
+    channels_disagree: bool = False
+    modes: int = 1
 
     @property
     def usable(self) -> bool:
         return self.status in ("ok", "wide", "upper-bound")
+
+
+def refused(status: str, chi2: float = np.inf, scale: float = np.inf, refusal: str | None = None) -> TemperatureEstimate:
+    """An estimate that gives no temperature."""
+    return TemperatureEstimate(None, None, None, chi2, scale, status, refusal=refusal)
 
 
 def observed_ratios(mean_linear, standard_error):
@@ -128,27 +263,53 @@ def observed_ratios(mean_linear, standard_error):
     return ratios, errors
 
 
-def log_likelihood(ratios, ratio_errors, space: RGBSpace = SRGB, camera: CameraTerm = UNCALIBRATED):
-    """Gaussian log-likelihood of the observed ratios on the blackbody table grid, and chi^2.
+def _logmeanexp(values, axis):
+    peak = values.max(axis=axis, keepdims=True)
+    peak = np.where(np.isfinite(peak), peak, 0.0)
+    return np.squeeze(peak, axis=axis) + np.log(np.exp(values - peak).mean(axis=axis))
 
-    With several white-balance factors the likelihood is averaged over them (marginalised);
-    chi^2 is then the best over the factors.
-    """
-    model, camera_variance = camera.model(space)
+
+def colour_log_likelihood(ratios, ratio_errors, cameras: Cameras, scale: float = 1.0):
+    """Per member and grid point: the Gaussian log-likelihood of the observed ratios, averaged over
+    the white-balance factors (marginalised), and chi^2 (the best over the factors)."""
     loglikes, chi2s = [], []
-    for factor in camera.white_balance_factors:
-        variance = ratio_errors[None, :] ** 2 + camera_variance * factor**2
-        chi2 = ((ratios[None, :] - model * factor) ** 2 / variance).sum(axis=1)
-        loglikes.append(-0.5 * (chi2 + np.log(variance).sum(axis=1)))
+    for factor in cameras.white_balance_factors:
+        variance = (ratio_errors**2 + cameras.variance * factor**2) * scale**2
+        chi2 = ((ratios - cameras.ratios * factor) ** 2 / variance).sum(axis=-1)
+        loglikes.append(-0.5 * (chi2 + np.log(variance).sum(axis=-1)))
         chi2s.append(chi2)
-    loglikes = np.array(loglikes)
-    peak = loglikes.max(axis=0)
-    loglike = peak + np.log(np.exp(loglikes - peak).mean(axis=0))
-    return loglike, np.min(chi2s, axis=0)
+    return _logmeanexp(np.array(loglikes), axis=0), np.min(chi2s, axis=0)
 
 
-def _quantile(grid, cdf, q):
-    return float(np.interp(q, cdf, grid))
+def brightness_log_likelihood(observation: Brightness, cameras: Cameras) -> np.ndarray:
+    """Per member and grid point: ln p(recorded red | T), :func:`glowtemp.brightness.log_likelihood`."""
+    predicted = observation.log_scale + np.log(observation.ideal_red)[None, :] + cameras.log_response
+    sigma = float(np.hypot(cameras.departure_sigma, observation.log_red_sigma))
+    return brightness_channel.log_likelihood(observation.log_red - predicted, sigma, observation.emissivity_bounds)
+
+
+def _mixture(member_loglike, weights):
+    """ln sum_m w_m exp(ll_m) on the grid."""
+    return _logmeanexp(member_loglike + np.log(weights)[:, None], axis=0) + math.log(weights.size)
+
+
+@dataclass(frozen=True)
+class _Summary:
+    posterior: np.ndarray
+    median: float
+    interval_68: tuple
+    interval_95: tuple
+    low_edge_mass: float
+    modes: int
+
+
+def _summarise(loglike) -> _Summary:
+    posterior = np.exp(loglike - loglike.max())
+    posterior /= posterior.sum()
+    cdf = np.cumsum(posterior) - posterior / 2
+    q = lambda p: float(np.interp(p, cdf, GRID_K))  # noqa: E731 - a short local helper
+    low_edge = posterior[: max(1, int(GRID_K.size * 0.01))].sum()
+    return _Summary(posterior, q(0.5), (q(0.16), q(0.84)), (q(0.025), q(0.975)), float(low_edge), _modes(posterior))
 
 
 def _modes(posterior, floor=0.1, least_mass=0.025) -> int:
@@ -161,73 +322,104 @@ def _modes(posterior, floor=0.1, least_mass=0.025) -> int:
     return sum(1 for start, stop in runs if posterior[start:stop].sum() >= least_mass)
 
 
+def _status(summary: _Summary) -> str:
+    if summary.low_edge_mass > 0.005:
+        return "upper-bound"
+    if (summary.interval_68[1] - summary.interval_68[0]) / 2 > WIDE_HALF_WIDTH_K:
+        return "wide"
+    return "ok"
+
+
+def _why_not_glow(ratios) -> str:
+    """A whitish colour is daylight or a lamp; a coloured one (green, blue, magenta) no glow."""
+    green, blue = ratios
+    low, high = WHITISH_GREEN
+    whitish = low <= green <= high and blue <= WHITISH_BLUE_OVER_GREEN * green
+    return "daylight-or-lamp" if whitish else "not-glow-colour"
+
+
+def default_red_level(mean_red: float) -> float:
+    """The recorded red level of a linear red, for a file with the sRGB curve (IEC 61966-2-1)."""
+    return float(srgb_encode(min(max(mean_red, 0.0), 1.0)))
+
+
 def estimate_temperature(
-    mean_linear, standard_error, space: RGBSpace = SRGB, camera: CameraTerm = UNCALIBRATED
+    mean_linear,
+    standard_error,
+    space: RGBSpace = SRGB,
+    camera: CameraTerm | Cameras | None = None,
+    brightness: Brightness | None = None,
+    red_level: float | None = None,
 ) -> TemperatureEstimate:
     """Posterior summary of the temperature of a grey body from its mean linear RGB.
 
+    ``camera`` is a profile's :class:`CameraTerm`, prepared :class:`Cameras`, or None for the
+    camera population at ``red_level`` (the recorded red, share of full code; from the sRGB curve
+    when None). ``brightness`` adds the exposure channel.
+
     >>> from glowtemp.locus import blackbody_xyz, clipped_linear_rgb
     >>> rgb = clipped_linear_rgb(blackbody_xyz(1400.0)[0])
-    >>> result = estimate_temperature(rgb / rgb[0], [0.002, 0.002, 0.002])
+    >>> result = estimate_temperature(rgb / rgb[0] * 0.5, [0.001, 0.001, 0.001])
     >>> lo, hi = result.interval_95_k
-    >>> bool(lo < 1400 < hi), result.status
-    (True, 'ok')
+    >>> bool(lo < 1400 < hi), result.status, result.channels
+    (True, 'ok', ('colour',))
     """
     mean_linear = np.asarray(mean_linear, dtype=float)
-    if not np.all(np.isfinite(mean_linear)) or mean_linear[0] <= 0:
-        return TemperatureEstimate(None, None, None, np.inf, np.inf, "no-data")
+    if not np.all(np.isfinite(mean_linear)) or mean_linear.max() <= 0:
+        return refused("no-data")
+    if mean_linear[0] <= 0:  # light with no red at all: no hot body glows like that
+        return refused("not-glow", refusal="not-glow-colour")
+    cameras = _cameras_for(camera, space, mean_linear[0] if red_level is None else None, red_level)
     ratios, errors = observed_ratios(mean_linear, standard_error)
-    grid = blackbody_table().temperature_k
-    loglike, chi2 = log_likelihood(ratios, errors, space, camera)
-    best = int(np.argmax(loglike))
-    chi2_min, dof = float(chi2[best]), 1
+    if np.any(ratios > glow_limits(cameras, errors)):
+        return refused("not-glow", refusal=_why_not_glow(ratios))
+    colour_ll, chi2 = colour_log_likelihood(ratios, errors, cameras)
+    chi2_min, dof = float(chi2.min()), 1
     if chi2_min / dof > REFUSE_CHI2:
-        return TemperatureEstimate(None, None, None, chi2_min, np.sqrt(chi2_min / dof), "not-glow")
+        return refused("not-glow", chi2_min, math.sqrt(chi2_min / dof), _why_not_glow(ratios))
     scale = 1.0
-    if _chi2_survival_1dof(chi2_min) < POOR_FIT_P:
-        scale = np.sqrt(chi2_min / dof)
-        loglike = log_likelihood(ratios, errors * scale, space, _scaled(camera, scale))[0]
-    posterior = np.exp(loglike - loglike.max())
-    posterior /= posterior.sum()
-    if _modes(posterior) > 1:
-        return TemperatureEstimate(None, None, None, chi2_min, scale, "ambiguous")
-    cdf = np.cumsum(posterior) - posterior / 2
-    q = lambda p: _quantile(grid, cdf, p)  # noqa: E731 - a short local helper
-    interval_95 = (q(0.025), q(0.975))
-    low_edge_mass = posterior[: int(len(grid) * 0.01)].sum()
-    interval_68 = (q(0.16), q(0.84))
-    status = "ok"
-    if low_edge_mass > 0.005:
-        status = "upper-bound"
-    elif (interval_68[1] - interval_68[0]) / 2 > WIDE_HALF_WIDTH_K:
-        status = "wide"
+    if math.erfc(math.sqrt(chi2_min / 2)) < POOR_FIT_P:
+        scale = math.sqrt(chi2_min / dof)
+        colour_ll = colour_log_likelihood(ratios, errors, cameras, scale)[0]
+    colour = _summarise(_mixture(colour_ll, cameras.weights))
+    if colour.median > WHITER_THAN_GLOW_K:
+        return refused("not-glow", chi2_min, scale, "daylight-or-lamp")
+    channels, disagree, final = ("colour",), False, colour
+    if brightness is not None:
+        bright_ll = brightness_log_likelihood(brightness, cameras)
+        joint = _mixture(colour_ll + bright_ll, cameras.weights)
+        alone = _summarise(_mixture(bright_ll, cameras.weights))
+        overlap = float(np.sqrt(colour.posterior * alone.posterior).sum())
+        channels = ("colour", "brightness")
+        if overlap < CHANNELS_AGREE:
+            disagree = True
+            final = _summarise(np.log(colour.posterior + alone.posterior + 1e-300))
+        else:
+            final = _summarise(joint)
+    status = _status(final)
+    if final.modes > 1 and status == "ok":
+        status = "wide"  # two heats fit (cameras of the prior disagree): a range holds both
+    interval_95 = final.interval_95
     if status == "upper-bound":
-        interval_95 = (float(grid[0]), _quantile(grid, cdf, 0.95))
+        interval_95 = (float(GRID_K[0]), interval_95[1])
     return TemperatureEstimate(
-        temperature_k=q(0.5),
-        interval_68_k=interval_68,
+        temperature_k=final.median,
+        interval_68_k=final.interval_68,
         interval_95_k=interval_95,
         chi2=chi2_min,
         scale_factor=float(scale),
         status=status,
-        at_table_top=bool(posterior[-int(len(grid) * 0.01):].sum() > 0.005),
+        channels=channels,
+        colour_status=_status(colour),
+        channels_disagree=disagree,
+        modes=final.modes,
     )
 
 
-def _scaled(camera: CameraTerm, scale: float) -> CameraTerm:
-    """The camera term with every spread multiplied by ``scale`` (the PDG scale factor)."""
-    covariance = np.asarray(camera.offset_gain_covariance) * scale**2
-    return replace(
-        camera,
-        ratio_sigma=camera.ratio_sigma * scale,
-        green_floor=camera.green_floor * scale,
-        blue_floor=camera.blue_floor * scale,
-        offset_gain_covariance=tuple(map(tuple, covariance)),
-    )
-
-
-def _chi2_survival_1dof(chi2: float) -> float:
-    """P(X > chi2) for a chi-square variable with one degree of freedom: erfc(sqrt(chi2 / 2))."""
-    from math import erfc, sqrt
-
-    return erfc(sqrt(max(chi2, 0.0) / 2))
+def _cameras_for(camera, space, mean_red, red_level) -> Cameras:
+    if isinstance(camera, Cameras):
+        return camera
+    if isinstance(camera, CameraTerm):
+        return camera.cameras(space)
+    level = default_red_level(mean_red) if red_level is None else red_level
+    return population_cameras(space, level) or UNCALIBRATED.cameras(space)

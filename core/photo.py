@@ -178,9 +178,11 @@ class Photo:
     shape (3, max_code + 1); ``space_source`` is ``"icc"``, ``"cicp"`` (HEIF colour information),
     ``"exif"``, ``"dng"`` (a raw file's colour matrix) or ``"assumed"``; ``profile_problem``
     says why an embedded profile was not used (then sRGB is assumed); ``matrix_illuminant_unstated``
-    marks a raw file whose colour matrix names no calibration illuminant (see :mod:`glowtemp.raw`).
+    marks a raw file whose colour matrix names no calibration illuminant (see :mod:`glowtemp.raw`);
     ``missing_data`` is True when the decoder filled in image data that the file lacks
-    (:func:`ends_in_filled_blocks`).
+    (:func:`ends_in_filled_blocks`);
+    ``linear_scale`` turns decoded linear light into the file's own scale (1 but for raw files,
+    whose codes leave headroom for the colour matrix).
     """
 
     codes: np.ndarray
@@ -193,6 +195,7 @@ class Photo:
     profile_problem: str | None = None
     matrix_illuminant_unstated: bool = False
     missing_data: bool = False
+    linear_scale: float = 1.0
 
     @property
     def width(self) -> int:

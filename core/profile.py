@@ -27,6 +27,17 @@ breaks; the affine map generalised best, inside and outside the pairs' span.
   (weight of two pairs) so that three pairs that happen to agree do not make a band too narrow
   (Gelman et al., Bayesian Data Analysis, 3rd ed., section 3.2: scaled inverse chi-square prior).
 
+Brightness. A pair whose photo carries its exposure data also measures the camera's exposure
+constant for the brightness channel (:mod:`glowtemp.brightness`): ln(recorded red / the ideal
+camera's red at the trusted heat), which holds the camera's departure from ISO 12232 and the
+scene's emissivity together. The profile keeps their weighted mean (each pair weighted by its
+measurement and by the trusted value's uncertainty through the slope d ln(red)/dT) and its
+standard error, pooled with a repeatability between photos of :data:`BRIGHTNESS_SCATTER`. For
+a photo of the same kind of scene the emissivity stays inside the constant; for another kind
+the pairs' mean emissivity is taken out and the photo's scene prior put in. A pair at heats
+where green is lost (below about 850 °C in sRGB) has no colour part, only brightness: the
+magnet test at iron's Curie point is such a pair.
+
 References
 ----------
 - J. Orear, "Least squares when both variables have uncertainties", Am. J. Phys. 50 (1982) 912.
@@ -42,22 +53,32 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .brightness import scene_bounds
 from .colourspaces import SPACES_BY_NAME, RGBSpace
 from .estimate import CameraTerm, observed_ratios
 from .locus import TABLE_MIN_K, blackbody_table, locus_ratios
 from .scales import celsius_to_kelvin
 
 PROFILE_FORMAT = "glowtemp-camera-profile"
-PROFILE_VERSION = 1
+PROFILE_VERSION = 2  # 2: a brightness part, and pairs without a colour part
 PRIOR_GAIN_SIGMA = 0.1  # gain spread between cameras, for one-pair profiles
 PRIOR_SCATTER = 0.003  # green/red scatter about the map when too few pairs measure it
 PRIOR_SCATTER_DOF = 2  # weight of that prior, in pairs, when pairs do measure it
 SPAN_MARGIN_C = 25.0  # readings this far outside the pairs' span are flagged
 MIN_RATIO_SIGNAL = 3.0  # a recorded green/red below this many standard errors carries no map
+BRIGHTNESS_SCATTER = 0.1  # ln units: recorded level between photos of one camera (focus, framing, vignetting; a hedge)
 
 
 class ProfileError(ValueError):
     """A profile that cannot be fitted, read or applied, in plain words."""
+
+
+# The magnet test: plain carbon steel stops attracting a magnet at iron's Curie point, 770 °C
+# (1043 K; CRC Handbook of Chemistry and Physics, "Curie temperatures"). Alloyed and high-carbon
+# steels let go elsewhere (their transformation range), so it is approximate: 1-sigma 10 °C for
+# plain carbon steel (from memory), and the table and screen say so.
+CURIE_POINT_IRON_C = 770.0
+MAGNET_SIGMA_C = 10.0
 
 
 def thermocouple_sigma_c(temperature_c: float) -> float:
@@ -74,18 +95,40 @@ def ideal_green_ratio(temperature_k, space: RGBSpace):
     return value, slope
 
 
+def ideal_log_red(temperature_k, space: RGBSpace):
+    """ln of the ideal camera's red for a blackbody (absolute XYZ of :mod:`glowtemp.locus` in
+    ``space``) and its slope d/dT per kelvin, for the brightness channel."""
+    table = blackbody_table()
+    log_red = np.log(np.clip(table.xyz @ space.xyz_to_rgb[0], 1e-300, None))
+    value = np.interp(temperature_k, table.temperature_k, log_red)
+    slope = np.interp(temperature_k, table.temperature_k, np.gradient(log_red, table.temperature_k))
+    return value, slope
+
+
+def brightness_residual(mean_red: float, red_error: float, exposure, reference_c: float, space: RGBSpace):
+    """A pair's ln(recorded red / ideal red at the trusted heat), its sigma and slope per kelvin."""
+    value, slope = ideal_log_red(celsius_to_kelvin(reference_c), space)
+    return float(np.log(mean_red) - exposure.log_scale - value), float(red_error / mean_red), float(slope)
+
+
 @dataclass(frozen=True)
 class Pair:
-    """One calibration pair: the photo's recorded green/red and the trusted temperature."""
+    """One calibration pair: the photo's recorded green/red (None where green is lost), its
+    brightness residual ln(recorded red / ideal red at the trusted heat) with that residual's
+    slope d/dT (None without exposure data), and the trusted temperature."""
 
     photo: str
-    green_ratio: float
-    green_ratio_sigma: float
+    green_ratio: float | None
+    green_ratio_sigma: float | None
     reference_c: float
     reference_sigma_c: float
-    reference_kind: str = "thermocouple"  # or "cone"
+    reference_kind: str = "thermocouple"  # or "cone" or "magnet"
     cone: str | None = None
     region: str | None = None
+    log_brightness: float | None = None
+    log_brightness_sigma: float | None = None
+    brightness_slope_per_k: float | None = None
+    scene: str = "other"
 
     def to_dict(self) -> dict:
         return dict(self.__dict__)
@@ -116,6 +159,48 @@ class RatioMap:
         )
 
 
+@dataclass(frozen=True)
+class BrightnessFit:
+    """The camera's exposure constant (ln units) fitted from pairs, its spread and their scene."""
+
+    log_constant: float
+    sigma: float
+    scene: str
+    pairs: int
+
+    def for_scene(self, scene: str):
+        """(log response, its sigma, emissivity bounds or None for the scene's own) for a photo."""
+        if scene == self.scene:
+            return self.log_constant, self.sigma, (1.0, 1.0)
+        low, high = scene_bounds(self.scene)
+        middle, half = (np.log(low) + np.log(high)) / 2, (np.log(high) - np.log(low)) / 2
+        return self.log_constant - middle, float(np.hypot(self.sigma, half / np.sqrt(3.0))), None
+
+    def to_dict(self) -> dict:
+        return dict(self.__dict__)
+
+
+def fit_brightness(pairs: list[Pair]) -> BrightnessFit | None:
+    """Weighted mean of the pairs' brightness residuals (None when no pair has one).
+
+    Pairs of several scene kinds are brought to emissivity 1 first (each kind's mean ln
+    emissivity taken out), and the fit is then kept for "other".
+    """
+    usable = [p for p in pairs if p.log_brightness is not None]
+    if not usable:
+        return None
+    scenes = {p.scene for p in usable}
+    scene = scenes.pop() if len(scenes) == 1 else "other"
+    y = np.array([p.log_brightness for p in usable])
+    if scene == "other" and any(p.scene != "other" for p in usable):
+        y = y - np.array([np.mean(np.log(scene_bounds(p.scene))) for p in usable])
+    variance = np.array([p.log_brightness_sigma**2 + (p.brightness_slope_per_k * p.reference_sigma_c) ** 2
+                         for p in usable]) + BRIGHTNESS_SCATTER**2
+    weights = 1.0 / variance
+    return BrightnessFit(float((weights * y).sum() / weights.sum()), float(np.sqrt(1.0 / weights.sum())),
+                         scene, len(usable))
+
+
 def pair_green_ratio(mean_linear, standard_error) -> tuple[float, float]:
     """Recorded green/red of a region and its standard error; raises when green carries no signal."""
     ratios, errors = observed_ratios(mean_linear, standard_error)
@@ -127,10 +212,12 @@ def pair_green_ratio(mean_linear, standard_error) -> tuple[float, float]:
     return float(ratios[0]), float(errors[0])
 
 
-def fit_ratio_map(pairs: list[Pair], space: RGBSpace) -> RatioMap:
-    """Weighted least squares of g_recorded on g_ideal(T_trusted), Orear's effective variance."""
+def fit_ratio_map(pairs: list[Pair], space: RGBSpace) -> RatioMap | None:
+    """Weighted least squares of g_recorded on g_ideal(T_trusted), Orear's effective variance,
+    over the pairs with a colour part (None when none has one)."""
+    pairs = [p for p in pairs if p.green_ratio is not None]
     if not pairs:
-        raise ProfileError("A profile needs at least one photo paired with a trusted reading.")
+        return None
     y = np.array([pair.green_ratio for pair in pairs])
     sigma_y = np.array([pair.green_ratio_sigma for pair in pairs])
     t = celsius_to_kelvin(np.array([pair.reference_c for pair in pairs]))
@@ -167,11 +254,12 @@ class CameraProfile:
     """A named camera profile: the map, the pairs it came from, and the camera it belongs to."""
 
     name: str
-    ratio_map: RatioMap
+    ratio_map: RatioMap | None
     pairs: list[Pair]
     colour_space: str
     camera: dict = field(default_factory=dict)  # make, model, white_balance, iso, exposure_time_s
     created: str = ""
+    brightness: BrightnessFit | None = None
 
     @property
     def span_c(self) -> tuple[float, float]:
@@ -184,8 +272,12 @@ class CameraProfile:
             return SPACES_BY_NAME[self.colour_space]
         raise ProfileError(f"The profile's colour space {self.colour_space!r} is not one glowtemp knows.")
 
-    def camera_term(self) -> CameraTerm:
-        ends_k = celsius_to_kelvin(np.array(self.span_c))
+    def camera_term(self) -> CameraTerm | None:
+        """The fitted colour map as a camera term (None when no pair had a colour part)."""
+        if self.ratio_map is None:
+            return None
+        refs = [pair.reference_c for pair in self.pairs if pair.green_ratio is not None]
+        ends_k = celsius_to_kelvin(np.array([min(refs), max(refs)]))
         low, high = ideal_green_ratio(ends_k, self.space)[0]
         return self.ratio_map.camera_term((float(low), float(high)))
 
@@ -200,6 +292,8 @@ class CameraProfile:
         rising = grid[ideal > ideal.min()]
         out = []
         for pair in self.pairs:
+            if pair.green_ratio is None or self.ratio_map is None:
+                continue
             target = (pair.green_ratio - self.ratio_map.offset) / self.ratio_map.gain
             mapped = np.interp(target, ideal[grid >= rising[0]], grid[grid >= rising[0]])
             out.append(float(mapped - celsius_to_kelvin(pair.reference_c)))
@@ -214,10 +308,11 @@ class CameraProfile:
             "model": "green/red = offset + gain * ideal green/red",
             "colour_space": self.colour_space,
             "camera": self.camera,
-            "parameters": {"offset": self.ratio_map.offset, "gain": self.ratio_map.gain},
-            "covariance": self.ratio_map.covariance.tolist(),
-            "scatter": self.ratio_map.scatter,
-            "scatter_measured": self.ratio_map.scatter_measured,
+            "parameters": None if self.ratio_map is None else {"offset": self.ratio_map.offset, "gain": self.ratio_map.gain},
+            "covariance": None if self.ratio_map is None else self.ratio_map.covariance.tolist(),
+            "scatter": None if self.ratio_map is None else self.ratio_map.scatter,
+            "scatter_measured": None if self.ratio_map is None else self.ratio_map.scatter_measured,
+            "brightness": None if self.brightness is None else self.brightness.to_dict(),
             "span_c": list(self.span_c),
             "pairs": [pair.to_dict() for pair in self.pairs],
             "residuals_c": self.residuals_c(),
@@ -233,13 +328,16 @@ class CameraProfile:
                 "update glowtemp to read it."
             )
         try:
-            ratio_map = RatioMap(
-                offset=float(record["parameters"]["offset"]),
-                gain=float(record["parameters"]["gain"]),
-                covariance=np.array(record["covariance"], dtype=float).reshape(2, 2),
-                scatter=float(record["scatter"]),
-                scatter_measured=bool(record["scatter_measured"]),
-            )
+            ratio_map = None
+            if record["parameters"] is not None:
+                ratio_map = RatioMap(
+                    offset=float(record["parameters"]["offset"]),
+                    gain=float(record["parameters"]["gain"]),
+                    covariance=np.array(record["covariance"], dtype=float).reshape(2, 2),
+                    scatter=float(record["scatter"]),
+                    scatter_measured=bool(record["scatter_measured"]),
+                )
+            brightness = record.get("brightness")
             pairs = [Pair(**pair) for pair in record["pairs"]]
             profile = cls(
                 name=str(record["name"]),
@@ -248,6 +346,9 @@ class CameraProfile:
                 colour_space=str(record["colour_space"]),
                 camera=dict(record.get("camera") or {}),
                 created=str(record.get("created", "")),
+                brightness=None if brightness is None else BrightnessFit(
+                    float(brightness["log_constant"]), float(brightness["sigma"]),
+                    str(brightness["scene"]), int(brightness["pairs"])),
             )
         except (KeyError, TypeError, ValueError) as error:
             raise ProfileError(f"This camera profile is damaged ({error}).") from None
@@ -257,8 +358,17 @@ class CameraProfile:
 
 
 def fit_profile(name: str, pairs: list[Pair], space: RGBSpace, camera: dict, created: str) -> CameraProfile:
-    """Fit a profile from pairs (all from one camera, one colour space)."""
-    return CameraProfile(name, fit_ratio_map(pairs, space), list(pairs), space.name, dict(camera), created)
+    """Fit a profile from pairs (all from one camera, one colour space): the colour map from the
+    pairs with a colour part, the exposure constant from those with exposure data."""
+    if not pairs:
+        raise ProfileError("A profile needs at least one photo paired with a trusted reading.")
+    ratio_map, brightness = fit_ratio_map(pairs, space), fit_brightness(pairs)
+    if ratio_map is None and brightness is None:
+        raise ProfileError(
+            "No pair carries usable colour or brightness: green is lost at these heats and the "
+            "photos have no exposure data. Add pairs from hotter glow, or photos straight from the camera."
+        )
+    return CameraProfile(name, ratio_map, list(pairs), space.name, dict(camera), created, brightness)
 
 
 assert TABLE_MIN_K < 800  # the map is fitted on the table; glow starts near 800 K

@@ -2,9 +2,10 @@
 
 Profiles are human-readable JSON files in ``<data>/profiles/``, written to a temporary file,
 flushed and renamed into place, so a profile is either whole or absent. A pairs CSV has the
-columns ``photo`` and ``reference_c`` (a thermocouple or controller reading in °C) or ``cone``
-(a witness cone that bent), and optionally ``region`` (``X,Y,W,H`` or ``circle:CX,CY,R``);
-photo paths are relative to the CSV's folder.
+columns ``photo`` and ``reference_c`` (a thermocouple or controller reading in °C), ``cone``
+(a witness cone that bent) or ``magnet`` ("let go": plain carbon steel stopped attracting a
+magnet, iron's Curie point), and optionally ``region`` (``X,Y,W,H`` or ``circle:CX,CY,R``) and
+``scene`` (kiln, steel or other); photo paths are relative to the CSV's folder.
 """
 
 from __future__ import annotations
@@ -22,10 +23,14 @@ import numpy as np
 
 from .cones import CONE_SIGMA_C, ConeError, cone_temperature_c
 from .locus import blackbody_table, locus_ratios
+from .brightness import SCENES, exposure_from
 from .profile import (
+    CURIE_POINT_IRON_C,
+    MAGNET_SIGMA_C,
     CameraProfile,
     Pair,
     ProfileError,
+    brightness_residual,
     fit_profile,
     fit_ratio_map,
     ideal_green_ratio,
@@ -112,11 +117,19 @@ def delete_profile(data_dir: Path, name: str) -> None:
     path.unlink()
 
 
+MAGNET_WORDS = ("let go", "yes", "1")
+
+
 def _reference(row: dict, number: int, data_dir: Path) -> tuple[float, float, str, str | None]:
     text = (row.get("reference_c") or "").strip()
     cone = (row.get("cone") or "").strip()
-    if text and cone:
-        raise ProfileError(f"Row {number}: give either reference_c or cone, not both.")
+    magnet = (row.get("magnet") or "").strip().lower()
+    if sum(map(bool, (text, cone, magnet))) > 1:
+        raise ProfileError(f"Row {number}: give one of reference_c, cone or magnet, not several.")
+    if magnet:
+        if magnet not in MAGNET_WORDS:
+            raise ProfileError(f"Row {number}: magnet is {magnet!r}; write \"let go\" when the magnet stopped holding.")
+        return CURIE_POINT_IRON_C, MAGNET_SIGMA_C, "magnet", None
     if cone:
         try:
             return cone_temperature_c(cone, data_dir), CONE_SIGMA_C, "cone", cone
@@ -152,10 +165,10 @@ def read_pairs(csv_path: Path, data_dir: Path):
         raise ProfileError(f"Cannot read the pairs file {csv_path}: {error}") from None
     reader = csv.DictReader(text.splitlines())
     columns = set(reader.fieldnames or [])
-    if "photo" not in columns or not ({"reference_c", "cone"} & columns):
+    if "photo" not in columns or not ({"reference_c", "cone", "magnet"} & columns):
         raise ProfileError(
-            "The pairs file needs a header with the columns photo and reference_c (or cone), "
-            f"optionally region; it has: {', '.join(sorted(columns)) or 'no header'}."
+            "The pairs file needs a header with the columns photo and reference_c (or cone, or "
+            f"magnet), optionally region and scene; it has: {', '.join(sorted(columns)) or 'no header'}."
         )
     rows = list(reader)
     if len(rows) > MOST_PAIRS:
@@ -181,13 +194,14 @@ def read_pairs(csv_path: Path, data_dir: Path):
             raise ProfileError(f"Row {number}: {name} is the same photo as row {seen[digest]}.")
         seen[digest] = number
         region_text = (row.get("region") or "").strip() or None
+        scene = (row.get("scene") or "").strip() or "other"
+        if scene not in SCENES:
+            raise ProfileError(f"Row {number}: scene {scene!r} is not one of {', '.join(SCENES)}.")
         try:
             region = parse_region(region_text) if region_text else None
             photo = load_photo(data)
-            reading = measure(photo, region, photo_name=name)
-            ratio, ratio_sigma = pair_green_ratio(
-                reading.statistics.mean_linear, reading.statistics.standard_error
-            )
+            reading = measure(photo, region, photo_name=name, scene=scene)
+            ratio, ratio_sigma, brightness = pair_channels(photo, reading, reference_c)
         except (PhotoError, RegionError, ProfileError) as error:
             raise ProfileError(f"Row {number} ({name}): {error}") from None
         if space is None:
@@ -198,11 +212,32 @@ def read_pairs(csv_path: Path, data_dir: Path):
                 f"{space.name}; make one profile per colour setting."
             )
         pairs.append(
-            Pair(name, ratio, ratio_sigma, reference_c, sigma_c, kind, cone, reading.region.to_text())
+            Pair(name, ratio, ratio_sigma, reference_c, sigma_c, kind, cone, reading.region.to_text(),
+                 *brightness, scene=scene)
         )
     if not pairs:
         raise ProfileError("The pairs file has a header but no rows.")
     return pairs, camera, space
+
+
+def pair_channels(photo, reading, reference_c: float):
+    """A pair's colour part (green/red and sigma, or None where green is lost) and brightness part
+    (residual, sigma, slope; Nones without exposure data); raises when it has neither."""
+    stats = reading.statistics
+    try:
+        ratio, ratio_sigma = pair_green_ratio(stats.mean_linear, stats.standard_error)
+    except ProfileError as weak:
+        ratio, ratio_sigma, colour_problem = None, None, weak
+    else:
+        colour_problem = None
+    exposure, missing = exposure_from(photo.metadata, raw=photo.format == "DNG")
+    red = float(stats.mean_linear[0]) * photo.linear_scale
+    if exposure is None or not np.isfinite(red) or red <= 0:
+        if colour_problem is not None:
+            raise ProfileError(f"{colour_problem}, and {missing or 'the region has no usable red'}") from None
+        return ratio, ratio_sigma, (None, None, None)
+    red_error = float(stats.standard_error[0]) * photo.linear_scale
+    return ratio, ratio_sigma, brightness_residual(red, red_error, exposure, reference_c, photo.space)
 
 
 def camera_settings(photo) -> dict:
@@ -224,8 +259,9 @@ def fit_from_csv(name: str, csv_path: Path, data_dir: Path) -> CameraProfile:
     pairs, camera, space = read_pairs(csv_path, data_dir)
     created = datetime.now(timezone.utc).isoformat(timespec="seconds")
     profile = fit_profile(name, pairs, space, camera, created)
-    if len(pairs) >= 3:
-        _refuse_wild_pairs(pairs, space)
+    colour_pairs = [pair for pair in pairs if pair.green_ratio is not None]
+    if len(colour_pairs) >= 3:
+        _refuse_wild_pairs(colour_pairs, space)
     save_profile(data_dir, profile)
     return profile
 

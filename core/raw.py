@@ -243,6 +243,19 @@ def camera_to_raw_space(xyz_to_cam: np.ndarray) -> np.ndarray:
     return RAW_SPACE.xyz_to_rgb @ camera_to_xyz
 
 
+def code_scale(to_space: np.ndarray) -> float:
+    """Codes per unit of linear :data:`RAW_SPACE` light: so no unclipped camera value in [0, 1]
+    can reach full scale (the largest row sum of the matrix's positive part maps below it)."""
+    headroom = float(np.clip(to_space, 0.0, None).sum(axis=1).max())
+    return ((MAX_CODE - 1) * SATURATED - PEDESTAL) / headroom
+
+
+def linear_scale(to_space: np.ndarray) -> float:
+    """What :func:`decode_table`'s linear light is multiplied by to be the file's own scale
+    (normalised raw through the colour matrix), for the brightness channel."""
+    return (MAX_CODE - PEDESTAL) / code_scale(to_space)
+
+
 def encode_linear(rgb: np.ndarray, clipped: np.ndarray, to_space: np.ndarray) -> np.ndarray:
     """Linear camera RGB to 16-bit codes in :data:`RAW_SPACE`; clipped tiles at full scale.
 
@@ -251,9 +264,8 @@ def encode_linear(rgb: np.ndarray, clipped: np.ndarray, to_space: np.ndarray) ->
     undoes it. Scaled so no unclipped camera value in [0, 1] can reach full scale (the largest
     row sum of the matrix's positive part maps below it), so full scale means clipped only.
     """
-    headroom = float(np.clip(to_space, 0.0, None).sum(axis=1).max())
     out = np.empty(rgb.shape, dtype=np.uint16)
-    scale = np.float32(((MAX_CODE - 1) * SATURATED - PEDESTAL) / headroom)
+    scale = np.float32(code_scale(to_space))
     matrix = (to_space * scale).astype(np.float32).T
     rows = max(1, 2**18 // max(rgb.shape[1], 1))
     for top in range(0, rgb.shape[0], rows):
@@ -274,7 +286,8 @@ def decode_table() -> np.ndarray:
 
 
 def decode_dng(data: bytes, tags: dict) -> np.ndarray:
-    """Linear 16-bit codes in :data:`RAW_SPACE`, (H/2, W/2, 3), as stored (not yet upright).
+    """Linear 16-bit codes in :data:`RAW_SPACE`, (H/2, W/2, 3), as stored (not yet upright), and
+    their :func:`linear_scale`.
 
     ``tags`` are the DNG's, from :func:`read_dng_header`. Raises :class:`RawError`.
     """
@@ -292,7 +305,7 @@ def decode_dng(data: bytes, tags: dict) -> np.ndarray:
             rgb, clipped = superpixel(visible, colours, black, white)
     except (rawpy.LibRawError, OSError) as error:
         raise RawError(f"LibRaw cannot read this DNG's pixels ({error}).") from error
-    return encode_linear(rgb, clipped, to_space)
+    return encode_linear(rgb, clipped, to_space), linear_scale(to_space)
 
 
 def _value(value) -> float | None:
@@ -339,7 +352,7 @@ def load_dng(data: bytes, max_pixels: int) -> Photo:
             f"The raw image is {width} x {height} pixels ({width * height / 1e6:.0f} megapixels), "
             f"more than the {max_pixels / 1e6:g} megapixels glowtemp accepts."
         )
-    codes = decode_dng(data, tags)
+    codes, scale = decode_dng(data, tags)
     if min(codes.shape[:2]) < MIN_SIDE_PX:
         raise RawError(f"The raw image is too small; glowtemp needs at least {2 * MIN_SIDE_PX} x {2 * MIN_SIDE_PX} photosites.")
     orientation = int(_value(tags.get(TAG_ORIENTATION)) or 1)
@@ -355,6 +368,7 @@ def load_dng(data: bytes, max_pixels: int) -> Photo:
         metadata=dng_metadata(tags),
         format="DNG",
         matrix_illuminant_unstated=illuminant_unstated(tags),
+        linear_scale=scale,
     )
 
 

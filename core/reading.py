@@ -11,14 +11,21 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from . import advice
+from .brightness import DEFAULT_SCENE, DEPARTURE_SIGMA, exposure_from, scene_bounds
 from .colourspaces import SRGB, srgb_swatch_hex
 from .estimate import (
+    UNCALIBRATED,
+    Cameras,
     CameraTerm,
     TemperatureEstimate,
+    brightness_observation,
     estimate_temperature,
-    with_auto_white_balance,
+    population_cameras,
+    auto_white_balance_factors,
+    refused,
 )
-from .locus import TABLE_MAX_K, blackbody_swatch_hex
+from .locus import blackbody_swatch_hex
+from .population import Population
 from .raw import RAW_SPACE, uncalibrated_term
 from .region import find_glow
 from .sampling import RegionStatistics, region_statistics
@@ -53,6 +60,7 @@ class Reading:
     metadata: dict
     profile: str | None = None
     region_colour_hex: str | None = None
+    scene: str = DEFAULT_SCENE
     extra: dict = field(default_factory=dict)
 
     def _shown(self, from_kelvin):
@@ -110,9 +118,26 @@ class Reading:
             "colour_space_source": self.space_source,
             "camera": self.metadata,
             "profile": self.profile,
+            "scene": self.scene,
+            "emissivity": list(scene_bounds(self.scene)),
+            "channels": list(self.estimate.channels),
+            "channels_text": channels_text(self.estimate),
             "notice": INSTRUMENT_NOTICE,
             **self.extra,
         }
+
+
+def channels_text(estimate: TemperatureEstimate) -> str | None:
+    """Which channels set the band, in words."""
+    if not estimate.usable:
+        return None
+    if estimate.channels_disagree:
+        return "from colour or brightness: they disagree, so the range holds both"
+    if estimate.channels == ("colour", "brightness"):
+        if estimate.colour_status == "upper-bound" and estimate.status != "upper-bound":
+            return "from brightness: the colour only shows a ceiling at this heat"
+        return "from colour and brightness"
+    return "from colour alone"
 
 
 def band_columns(result: dict) -> dict:
@@ -136,7 +161,7 @@ def region_colour_hex(mean_linear, space) -> str | None:
     return srgb_swatch_hex(SRGB.xyz_to_rgb @ (space.rgb_to_xyz @ np.asarray(mean_linear)))
 
 
-def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -> list:
+def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate, colour_only_reason) -> list:
     found = []
     if photo.profile_problem:
         found.append(advice.colour_profile_problem(photo.profile_problem))
@@ -157,9 +182,11 @@ def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -
         found.append(advice.few_pixels(stats.pixels_used))
     if stats.background_level > advice.BACKGROUND_LEVEL_WARN:
         found.append(advice.ambient_light())
-    if estimate.status == "not-glow" or estimate.scale_factor > 1.0:
+    if estimate.refusal == "daylight-or-lamp":
+        found.append(advice.daylight_or_lamp())
+    elif estimate.status == "not-glow" or estimate.scale_factor > 1.0:
         found.append(advice.not_glow_colour())
-    if estimate.status == "ambiguous":
+    if estimate.usable and estimate.modes > 1 and not estimate.channels_disagree:
         found.append(advice.ambiguous())
     if estimate.status == "upper-bound":
         ceiling_c = round_to(kelvin_to_celsius(estimate.interval_95_k[1]), 10)
@@ -168,40 +195,71 @@ def _advice_for(photo, stats: RegionStatistics, estimate: TemperatureEstimate) -
         found.append(advice.wide_range())
     elif estimate.usable and kelvin_to_celsius(estimate.temperature_k) < advice.BELOW_GLOW_C:
         found.append(advice.below_glow())
-    if estimate.at_table_top:
-        found.append(advice.above_range(kelvin_to_celsius(TABLE_MAX_K)))
+    if estimate.usable and colour_only_reason:
+        found.append(advice.colour_only(colour_only_reason))
+    if estimate.channels_disagree:
+        found.append(advice.channels_disagree())
     return found
 
 
-def finder_red(photo) -> np.ndarray:
-    """The red channel as the glow finder sees it: the file's codes, or for linear raw data
-    their square root (a rough display encoding), so a bright core does not hide the rest."""
-    red = photo.codes[:, :, 0]
-    if photo.space is not RAW_SPACE:
-        return red
-    return np.sqrt(np.clip(photo.decode_table[0][red], 0.0, None)) * np.float32(255)
+def find_region(photo):
+    """The glow finder on a photo (:func:`glowtemp.region.find_glow`): raw data are found in
+    linear light through the decoding table (codes sit on a pedestal), square-rooted."""
+    return find_glow(photo.codes, linear_table=photo.decode_table if photo.space is RAW_SPACE else None)
 
 
-def _profile_camera(profile, photo):
-    """The camera term a profile gives for this photo (None if it does not apply) and its advice.
+def _with_profile(profile, photo, cameras: Cameras, scene: str):
+    """The cameras a profile gives for this photo, the profile if applied, its advice, and the
+    emissivity bounds the brightness channel uses (None: the scene's own).
 
-    A photo from another camera model or white-balance setting gets the profile's map with the
-    uncalibrated camera spread added, since the map may not carry over.
+    The colour map replaces the population; the exposure constant replaces the members'
+    brightness response. A photo from another camera model or white-balance setting gets the
+    profile with the uncalibrated spreads added, since it may not carry over.
     """
     if profile.colour_space != photo.space.name:
-        return None, [advice.profile_space_mismatch(profile.colour_space, photo.space.name)]
-    camera = profile.camera_term()
+        return cameras, None, [advice.profile_space_mismatch(profile.colour_space, photo.space.name)], None
     made_with = (profile.camera.get("camera_model"), profile.camera.get("white_balance"))
     taken_with = (photo.metadata.camera_model, photo.metadata.white_balance)
-    if made_with == taken_with:
-        return camera, []
-    loose = uncalibrated_term(photo)
-    widened = replace(
-        camera,
-        green_floor=float(np.hypot(camera.green_floor, loose.green_floor)),
-        ratio_sigma=loose.ratio_sigma,
-    )
-    return widened, [advice.profile_camera_mismatch(made_with, taken_with)]
+    mismatch = made_with != taken_with
+    term = profile.camera_term()
+    if term is not None:
+        if mismatch:
+            loose = uncalibrated_term(photo)
+            term = replace(term, green_floor=float(np.hypot(term.green_floor, loose.green_floor)),
+                           ratio_sigma=loose.ratio_sigma)
+        cameras = term.cameras(photo.space)
+    bounds = None
+    if profile.brightness is not None:
+        log_response, sigma, bounds = profile.brightness.for_scene(scene)
+        if mismatch:
+            sigma = float(np.hypot(sigma, DEPARTURE_SIGMA))
+        cameras = replace(cameras, log_response=np.full_like(cameras.log_response, log_response),
+                          departure_sigma=sigma)
+    notes = [advice.profile_camera_mismatch(made_with, taken_with)] if mismatch else []
+    return cameras, profile, notes, bounds
+
+
+def recorded_red_level(photo, mean_red: float) -> float:
+    """The recorded (encoded) red level of a linear red, share of full code, by the photo's own
+    decoding table inverted."""
+    codes = np.arange(photo.max_code + 1, dtype=float)
+    return float(np.interp(mean_red, photo.decode_table[0], codes) / photo.max_code)
+
+
+def _brightness(photo, stats: RegionStatistics, scene: str, bounds=None):
+    """The brightness observation, or (None, why colour alone) when the photo cannot give one.
+    ``bounds`` replaces the scene's emissivity bounds (a profile that measured them)."""
+    exposure, reason = exposure_from(photo.metadata, raw=photo.space is RAW_SPACE)
+    if exposure is None:
+        return None, reason
+    if photo.metadata.white_balance == "auto":
+        return None, "the white balance was automatic, which moves the red level by an unknown amount"
+    red = float(stats.mean_linear[0]) * photo.linear_scale
+    red_error = float(stats.standard_error[0]) * photo.linear_scale
+    if not (np.isfinite(red) and red > 0):
+        return None, "the region has no usable red"
+    observation = brightness_observation(red, red_error, exposure, scene, photo.space)
+    return (observation if bounds is None else replace(observation, emissivity_bounds=bounds)), None
 
 
 def measure(
@@ -210,30 +268,39 @@ def measure(
     camera: CameraTerm | None = None,
     photo_name: str = "photo",
     profile=None,
+    scene: str = DEFAULT_SCENE,
+    prior: Population | None = None,
 ) -> Reading:
     """Measure one decoded photo (:class:`glowtemp.photo.Photo`) in ``region`` (found when None).
 
-    Without ``camera`` the uncalibrated camera term for the photo's kind is used (raw photos
-    have their own). With a :class:`glowtemp.profile.CameraProfile` the camera's own ratio map
-    replaces it (unless the profile was made in another colour space).
+    Without ``camera`` the camera population is the prior (at the photo's recorded red level).
+    With a :class:`glowtemp.profile.CameraProfile` the camera's own fitted map replaces it
+    (unless the profile was made in another colour space). ``scene`` ("kiln", "steel" or
+    "other", :data:`glowtemp.brightness.SCENES`) sets the emissivity prior of the brightness
+    channel, which joins colour when the photo carries its exposure data. ``prior`` replaces the
+    shipped camera population (validation leaves makers out with it).
     """
-    if camera is None:
-        camera = uncalibrated_term(photo)
+    scene_bounds(scene)  # an unknown scene is refused before any work
     region_found = region is None
     if region_found:
-        region = find_glow(finder_red(photo))
+        region = find_region(photo)
     stats = region_statistics(photo, region)
-    notes, applied = [], None
+    auto = photo.metadata.white_balance == "auto"
+    population = None
+    if camera is None:
+        level = recorded_red_level(photo, float(stats.mean_linear[0])) if np.isfinite(stats.mean_linear[0]) else 0.5
+        population = population_cameras(photo.space, level, prior, auto_white_balance=auto)
+    cameras = population or (camera or UNCALIBRATED).cameras(photo.space)
+    notes, applied, bounds = [], None, None
     if profile is not None:
-        profiled, notes = _profile_camera(profile, photo)
-        if profiled is not None:
-            camera, applied = profiled, profile
-    if photo.metadata.white_balance == "auto":
-        camera = with_auto_white_balance(camera)
+        cameras, applied, notes, bounds = _with_profile(profile, photo, cameras, scene)
+    if auto and cameras.weights.size == 1:  # one camera (a profile): auto white balance as unknown factors
+        cameras = replace(cameras, white_balance_factors=auto_white_balance_factors(photo.space))
+    bright, colour_only_reason = _brightness(photo, stats, scene, bounds)
     if stats.pixels_clipped > MOSTLY_CLIPPED * stats.pixels_total:
-        estimate = TemperatureEstimate(None, None, None, np.inf, np.inf, "clipped")
+        estimate = refused("clipped")
     else:
-        estimate = estimate_temperature(stats.mean_linear, stats.standard_error, photo.space, camera)
+        estimate = estimate_temperature(stats.mean_linear, stats.standard_error, photo.space, cameras, bright)
     if applied is not None and estimate.temperature_k is not None:
         if not applied.inside_span(kelvin_to_celsius(estimate.temperature_k)):
             notes.append(advice.outside_profile_span(applied.span_c))
@@ -243,10 +310,11 @@ def measure(
         region_found=region_found,
         statistics=stats,
         estimate=estimate,
-        warnings=tuple(_advice_for(photo, stats, estimate) + notes),
+        warnings=tuple(_advice_for(photo, stats, estimate, colour_only_reason) + notes),
         colour_space=photo.space.name,
         space_source=photo.space_source,
         metadata=photo.metadata.to_dict(),
         profile=applied.name if applied is not None else None,
         region_colour_hex=region_colour_hex(stats.mean_linear, photo.space),
+        scene=scene,
     )

@@ -192,16 +192,27 @@ def _grow(seed: np.ndarray, allowed: np.ndarray) -> np.ndarray:
         region = grown
 
 
-def find_glow(red_codes: np.ndarray):
-    """Find the glowing area in a photo's red channel codes (H x W); returns a Circle or Rectangle.
+def find_glow(codes: np.ndarray, linear_table: np.ndarray | None = None):
+    """Find the bright area of a photo; returns a Circle or Rectangle.
 
-    ``red_codes`` are encoded values (integers at the file's scale, or floats on a 0-255 scale).
-    Raises :class:`RegionError` when the photo is too dim or only a speck stands out.
+    ``codes`` are encoded values (integers at the file's scale, or floats on a 0-255 scale),
+    one channel (H x W) or colour (H x W x 3), where each pixel's brightest channel counts: glow
+    is brightest in red, but a green or blue light is found too, so that the estimator can say
+    it is no glow instead of the finder saying nothing is bright. With ``linear_table`` (raw data:
+    codes to linear light per channel, (3, codes)) the reduced copy is decoded and square-rooted
+    first (a rough display encoding), so a bright core does not hide the rest. Raises :class:`RegionError` when the photo is too dim or only a speck stands out.
     """
-    height, width = red_codes.shape
+    height, width = codes.shape[:2]
     step = max(1, int(np.ceil(max(height, width) / FINDER_SIZE_PX)))
-    small = _box_mean(red_codes[::step, ::step].astype(np.float32))
-    full_scale = np.iinfo(red_codes.dtype).max if red_codes.dtype.kind in "ui" else 255.0
+    reduced = codes[::step, ::step]
+    full_scale = np.iinfo(codes.dtype).max if codes.dtype.kind in "ui" else 255.0
+    if linear_table is not None:
+        reduced = np.sqrt(np.clip(linear_table[np.arange(3), reduced], 0.0, None)) * np.float32(255)
+        full_scale = 255.0
+    if reduced.ndim == 3:
+        reduced = reduced.max(axis=2)
+    reduced = reduced.astype(np.float32)
+    small = _box_mean(reduced)
     if small.max() < DIM_FRACTION * full_scale:
         raise RegionError(
             "Nothing in this photo is bright enough to be glow; raise the exposure, or draw the "

@@ -38,8 +38,8 @@ from .region import dilate, region_window
 
 CLIP_FRACTION = 250 / 255  # a channel at or above this share of the largest code is clipped
 CLIP_REACH_PX = 2  # neighbours of a clipped pixel this close are dropped with it
-DARK_FLOOR_LINEAR = 0.01  # red below this linear level is too dark to carry colour
-DARK_RELATIVE = 0.15  # ... or below this share of the region's bright (99th percentile) red
+DARK_FLOOR_LINEAR = 0.01  # a brightest channel below this linear level is too dark to carry colour
+DARK_RELATIVE = 0.15  # ... or below this share of the region's bright (99th percentile) level
 OUTLIER_MADS = 6.0  # Hampel identifier cut, in robust standard deviations
 PIXELS_PER_INDEPENDENT_SAMPLE = 16  # correlation area of demosaicing + 4:2:0 chroma + DCT (hedge)
 DITHER_CODES = 0.5  # pixel scatter (in code steps) above which quantisation averages out
@@ -123,16 +123,15 @@ def region_statistics(photo, region) -> RegionStatistics:
     clipped_count = int((near_clipped & inside).sum())
     codes = window[inside & ~near_clipped]
     linear = photo.linear(codes)
-    red = linear[:, 0]
-    bright_red = float(np.partition(red, len(red) * 99 // 100)[len(red) * 99 // 100]) if len(red) else 0.0
-    lit = red >= max(DARK_FLOOR_LINEAR, DARK_RELATIVE * bright_red)
+    level = linear.max(axis=1)  # the brightest channel: red for glow, any colour for a lamp
+    bright = float(np.partition(level, len(level) * 99 // 100)[len(level) * 99 // 100]) if len(level) else 0.0
+    lit = level >= max(DARK_FLOOR_LINEAR, DARK_RELATIVE * bright)
     codes, linear = codes[lit], linear[lit]
     keep = np.ones(len(linear), dtype=bool)
     if len(linear) >= 8:
         step = 1.0 / photo.max_code
-        keep = _robust_keep(linear[:, 1] / linear[:, 0], step) & _robust_keep(
-            linear[:, 2] / linear[:, 0], step
-        )
+        reference = np.maximum(linear[:, 0], step)  # ratios to red; a red-less light stays finite
+        keep = _robust_keep(linear[:, 1] / reference, step) & _robust_keep(linear[:, 2] / reference, step)
     codes, linear = codes[keep], linear[keep]
     used = len(linear)
     if used:

@@ -26,8 +26,10 @@ References
 
 from __future__ import annotations
 
+import json
 from dataclasses import dataclass
 from functools import lru_cache
+from pathlib import Path
 
 import colour
 import numpy as np
@@ -38,10 +40,11 @@ from .radiation import spectral_radiance
 
 DAYLIGHT_ILLUMINANT = "D55"  # a phone's "daylight"/"sunny" preset sits near 5500 K (common practice)
 TUNGSTEN_ILLUMINANT = "A"  # CIE illuminant A, Planckian at 2856 K (CIE 015:2018)
-AUTO_WARMEST_K = 2000.0  # invented: auto white balance accepts no white point warmer than 2000 K
+AUTO_WARMEST_K = 2800.0  # auto white balance keeps light warmer than about 2800 K warm (common practice, from memory)
 RAW_TABLE_MIN_K = 500.0
 RAW_TABLE_MAX_K = 4000.0
 TRAINING_CHART = "BabelColor Average"
+SENSITIVITIES_DIR = Path(__file__).with_name("data") / "camera_sensitivities"
 
 
 class SyntheticInputError(ValueError):
@@ -60,6 +63,7 @@ class CameraModel:
     wavelengths_nm: np.ndarray
     sensitivities: np.ndarray
     colour_matrix: np.ndarray | None = None
+    maker: str = "invented"
 
 
 def wavelength_grid_nm() -> np.ndarray:
@@ -81,7 +85,60 @@ def measured_camera(name: str) -> CameraModel:
         known = ", ".join(colour.MSDS_CAMERA_SENSITIVITIES.keys())
         raise SyntheticInputError(f"No measured camera called {name!r}; known: {known}.")
     msds = colour.MSDS_CAMERA_SENSITIVITIES[name]
-    return CameraModel(name, np.asarray(msds.wavelengths), np.asarray(msds.values))
+    return CameraModel(name, np.asarray(msds.wavelengths), np.asarray(msds.values), maker=name.split()[0])
+
+
+@lru_cache(maxsize=1)
+def measured_sensors() -> dict:
+    """The 38 measured cameras shipped in ``data/camera_sensitivities`` (Apache-2.0, see its
+    README), by "maker model", each with its maker. Sensitivities are zero beyond 380-780 nm."""
+    cameras = {}
+    for path in sorted(SENSITIVITIES_DIR.glob("*.json")):
+        document = json.loads(path.read_text())
+        header, table = document["header"], document["spectral_data"]["data"]["main"]
+        wavelengths = np.array(sorted(table, key=float), dtype=float)
+        values = np.array([table[key] for key in sorted(table, key=float)], dtype=float)
+        name = f"{header['manufacturer']} {header['model']}"
+        cameras[name] = CameraModel(name, wavelengths, values / values.max(), maker=header["manufacturer"])
+    return cameras
+
+
+def skewed_camera(name: str, peaks_nm, left_widths_nm, right_widths_nm, ir_cut_nm: float,
+                  ir_cut_slope_nm: float = 6.0) -> CameraModel:
+    """A sensor with split-Gaussian bands (a different width each side of the peak, for skew)
+    behind an infrared-cut filter modelled as a logistic edge at ``ir_cut_nm`` (50 % point).
+
+    >>> camera = skewed_camera("demo", (600, 535, 460), (30, 30, 25), (40, 35, 30), 660)
+    >>> bool(camera.sensitivities[-1, 0] < 1e-6)  # 830 nm: the IR-cut filter blocks it
+    True
+    """
+    grid = wavelength_grid_nm()
+    peaks = np.asarray(peaks_nm, dtype=float)
+    widths = np.where(grid[:, None] < peaks, np.asarray(left_widths_nm, float), np.asarray(right_widths_nm, float))
+    bands = np.exp(-0.5 * ((grid[:, None] - peaks) / widths) ** 2)
+    filter_ = 1.0 / (1.0 + np.exp((grid - ir_cut_nm) / ir_cut_slope_nm))
+    return CameraModel(name, grid, bands * filter_[:, None])
+
+
+def parametric_family(count: int, seed: int, stacked: bool = False) -> list:
+    """``count`` invented sensors drawn to span what measured sensors show.
+
+    Bayer sensors (default): red peak 585-625 nm, green 520-550 nm, blue 445-470 nm, widths
+    20-45 nm with skew, an IR-cut filter edge at 630-700 nm (ranges read off the measured
+    cameras in ``measured_sensors``). ``stacked``: sensors whose colour comes from depth in the
+    silicon, as in stacked-photodiode (Foveon-type) designs, with broad overlapping bands,
+    widths 45-80 nm (from memory), and the same IR-cut edges.
+    """
+    rng = np.random.default_rng(seed)
+    family = []
+    widths = (45, 80) if stacked else (20, 45)
+    label = "Parametric stacked" if stacked else "Parametric family"
+    for index in range(count):
+        peaks = (rng.uniform(585, 625), rng.uniform(520, 550), rng.uniform(445, 470))
+        left = rng.uniform(*widths, size=3)
+        right = left * rng.uniform(0.7, 1.4, size=3)
+        family.append(skewed_camera(f"{label} {seed}-{index}", peaks, left, right, rng.uniform(630, 700)))
+    return family
 
 
 def parametric_camera(name: str, peaks_nm, widths_nm) -> CameraModel:
@@ -192,9 +249,9 @@ def _auto_gain_limits(camera: CameraModel):
 def grey_world_gains(camera: CameraModel, mean_raw) -> np.ndarray:
     """Auto white balance: grey-world gains (Buchsbaum 1980) from the frame's mean raw signal.
 
-    Each gain is held between the daylight preset's and those that neutralise a 2000 K
-    Planckian light (an invented limit, in the spirit of phones that accept only plausible
-    white points), so a frame full of glow is pulled towards neutral but not all the way.
+    Each gain is held between the daylight preset's and those that neutralise a 2800 K
+    Planckian light (phones keep candle and fire light warm rather than neutralise it), so a
+    frame full of glow is pulled towards neutral but not all the way.
     """
     mean_raw = np.maximum(np.asarray(mean_raw, dtype=float), 1e-300)
     low, high = _auto_gain_limits(camera)
@@ -223,43 +280,92 @@ def white_point_preserving_fit(camera_rgb, target_xyz, white_rgb, white_xyz) -> 
     return unconstrained + np.outer(correction, direction)
 
 
-@lru_cache(maxsize=1)
-def chart_reflectances() -> np.ndarray:
-    """ColorChecker reflectances ("BabelColor Average", 24 patches) on the 1 nm grid, (24, 471).
+@lru_cache(maxsize=None)
+def chart_reflectances(chart: str = TRAINING_CHART) -> np.ndarray:
+    """ColorChecker reflectances from colour-science (24 patches) on the 1 nm grid, (24, 471).
 
-    The chart is measured from 380 to 730 nm; the end values are held beyond that range.
+    "BabelColor Average" (Pascale 2006) is measured from 380 to 730 nm, "ColorChecker N Ohta"
+    (Ohta, as shipped by colour-science) from 380 to 780 nm; end values are held beyond.
     """
-    chart = colour.SDS_COLOURCHECKERS[TRAINING_CHART]
-    return np.stack([_on_grid(sd.wavelengths, sd.values, sd.values[0], sd.values[-1]) for sd in chart.values()])
+    if chart not in colour.SDS_COLOURCHECKERS:
+        raise SyntheticInputError(f"Unknown colour chart {chart!r}.")
+    patches = colour.SDS_COLOURCHECKERS[chart]
+    return np.stack([_on_grid(sd.wavelengths, sd.values, sd.values[0], sd.values[-1]) for sd in patches.values()])
 
 
-def chart_training_data(camera: CameraModel):
-    """Daylight-balanced raw and D65-referred XYZ of the chart lit by the daylight illuminant.
+def chart_training_data(camera: CameraModel, chart: str = TRAINING_CHART,
+                        illuminant: str = DAYLIGHT_ILLUMINANT):
+    """Illuminant-balanced raw and D65-referred XYZ of a colour chart lit by ``illuminant``.
 
     XYZ is summed on the same absolute scale as :func:`raw_response` and adapted to D65 with
     the Bradford transform, as a camera renders a daylight scene for a D65-white display.
     Returns (rgb (24, 3), xyz (24, 3), white_rgb (3,), white_xyz (3,)) for the chart and for
     a perfect white reflector.
     """
-    illuminant = illuminant_on_grid(DAYLIGHT_ILLUMINANT)
+    light = illuminant_on_grid(illuminant)
     cmfs = colour_matching_functions()[1]
-    gains = preset_gains(camera, "daylight")
-    white_xyz = illuminant @ cmfs * 1e-9
+    gains = neutralising_gains(raw_response(camera, light))
+    white_xyz = light @ cmfs * 1e-9
     to_d65 = bradford_adaptation(white_xyz[:2] / white_xyz.sum(), D65_XY)
-    radiance = chart_reflectances() * illuminant
+    radiance = chart_reflectances(chart) * light
     xyz = radiance @ cmfs @ to_d65.T * 1e-9
     rgb = raw_response(camera, radiance) * gains
-    white_rgb = raw_response(camera, illuminant) * gains
+    white_rgb = raw_response(camera, light) * gains
     return rgb, xyz, white_rgb, to_d65 @ white_xyz
 
 
-@lru_cache(maxsize=None)
-def colour_matrix(camera: CameraModel) -> np.ndarray:
-    """The camera's matrix from daylight-balanced raw to D65-referred XYZ (a "typical" matrix).
+def least_squares_fit(camera_rgb, target_xyz, white_rgb=None, white_xyz=None) -> np.ndarray:
+    """Unconstrained linear least squares, 3 x 3 (Cheung et al. 2004, via colour-science's
+    ``matrix_colour_correction`` with the "Cheung 2004" method and 3 terms). The white is not
+    held: its error is whatever the patches leave."""
+    return np.asarray(colour.matrix_colour_correction(camera_rgb, target_xyz, method="Cheung 2004", terms=3))
 
-    Fitted once by white-point preserving least squares on the 24 ColorChecker patches under
-    CIE D55, so a D55 white maps exactly to the D65 white of the output space.
+
+def delta_e_fit(camera_rgb, target_xyz, white_rgb, white_xyz, iterations: int = 12) -> np.ndarray:
+    """3 x 3 matrix minimising the CIE 1976 colour difference of the patches in CIELAB, with the
+    white held by a heavily weighted extra residual (ISO 17321-1:2012, section 5: characterisation
+    of a digital still camera by minimising colour differences). Gauss-Newton from the
+    white-point preserving fit, numerical Jacobian; Lab relative to the white."""
+    white_xy = np.asarray(white_xyz[:2]) / np.sum(white_xyz)
+    scale = 100.0 / white_xyz[1]
+
+    def residuals(flat):
+        matrix = flat.reshape(3, 3)
+        lab = colour.XYZ_to_Lab(camera_rgb @ matrix.T * scale / 100, white_xy)
+        goal = colour.XYZ_to_Lab(target_xyz * scale / 100, white_xy)
+        white_error = (matrix @ white_rgb - white_xyz) * scale * 10.0
+        return np.concatenate([(lab - goal).ravel(), white_error])
+
+    flat = white_point_preserving_fit(camera_rgb, target_xyz, white_rgb, white_xyz).ravel()
+    for _ in range(iterations):
+        base = residuals(flat)
+        step = 1e-6 * max(1.0, float(np.abs(flat).max()))
+        jacobian = np.stack([(residuals(flat + step * np.eye(9)[i]) - base) / step for i in range(9)], axis=1)
+        delta = np.linalg.lstsq(jacobian, -base, rcond=None)[0]
+        flat = flat + delta
+        if np.abs(delta).max() < 1e-9:
+            break
+    return flat.reshape(3, 3)
+
+
+MATRIX_FITS = {
+    "white-preserving": white_point_preserving_fit,
+    "least-squares": least_squares_fit,
+    "delta-e": delta_e_fit,
+}
+
+
+@lru_cache(maxsize=None)
+def colour_matrix(camera: CameraModel, method: str = "white-preserving", chart: str = TRAINING_CHART,
+                  illuminant: str = DAYLIGHT_ILLUMINANT) -> np.ndarray:
+    """The camera's matrix from illuminant-balanced raw to D65-referred XYZ.
+
+    By default fitted by white-point preserving least squares on the 24 ColorChecker patches
+    under CIE D55, so a D55 white maps exactly to the D65 white of the output space; ``method``
+    picks another fit from :data:`MATRIX_FITS`, ``chart`` and ``illuminant`` other training data.
     """
     if camera.colour_matrix is not None:
         return np.asarray(camera.colour_matrix, dtype=float)
-    return white_point_preserving_fit(*chart_training_data(camera))
+    if method not in MATRIX_FITS:
+        raise SyntheticInputError(f"Unknown matrix fit {method!r}; use one of {', '.join(MATRIX_FITS)}.")
+    return MATRIX_FITS[method](*chart_training_data(camera, chart, illuminant))

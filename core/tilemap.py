@@ -16,9 +16,10 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
+from .brightness import DEFAULT_SCENE
 from .estimate import CameraTerm
-from .reading import Reading, finder_red, measure
-from .region import RegionError, find_glow
+from .reading import Reading, find_region, measure
+from .region import RegionError
 
 DEFAULT_TILES = 8  # tiles across the longer side of the region's bounding box
 MIN_TILE_PX = 8  # a tile is at least this many pixels on each side
@@ -164,20 +165,21 @@ def temperature_map(
     tiles: int = DEFAULT_TILES,
     camera: CameraTerm | None = None,
     profile=None,
+    scene: str = DEFAULT_SCENE,
 ) -> TileMap:
     """Measure every tile of ``region`` (found as :func:`glowtemp.reading.measure` does when None).
 
-    ``camera`` and ``profile`` are used as by :func:`~glowtemp.reading.measure`; a tile in which
+    ``camera``, ``profile`` and ``scene`` are used as by :func:`~glowtemp.reading.measure`; a tile in which
     the region covers fewer than 4 pixels is left out. Raises :class:`RegionError` for a region
     outside the photo or a bad tile count.
     """
     if region is None:
-        region = find_glow(finder_red(photo))
+        region = find_region(photo)
     rows, columns, cells = tile_grid(region, photo.width, photo.height, tiles)
     measured = []
     for index, cell in enumerate(cells):
         try:
-            reading = measure(photo, cell, camera=camera, photo_name=f"tile {index}", profile=profile)
+            reading = measure(photo, cell, camera=camera, photo_name=f"tile {index}", profile=profile, scene=scene)
         except RegionError:  # the region barely touches this cell
             continue
         measured.append(Tile(index // columns, index % columns, cell, reading))

@@ -5,8 +5,11 @@
   colour-science, which takes seconds to import.
 - blackbody_xyz.npy: blackbody XYZ on glowtemp's 1 K grid (700-4000 K), integrated from those
   CMFs by glowtemp.locus.blackbody_xyz (about 40 ms of work saved at every start).
+- camera_population.npz: the camera prior, glowtemp.population_build.build_population (derived
+  from the measured cameras in core/data/camera_sensitivities, Apache-2.0; see core/data/NOTICE.md).
 
-tests/test_locus.py checks both files against colour-science and a fresh integration.
+tests/test_locus.py checks the first two against colour-science and a fresh integration;
+tests/test_population.py rebuilds members of the third and compares.
 
 Run: python scripts/export_tables.py
 """
@@ -32,6 +35,13 @@ def main():
     out = DATA / "blackbody_xyz.npy"
     np.save(out, blackbody_xyz(table_grid()))
     print(f"wrote {out}")
+
+    from glowtemp.population_build import build_population
+
+    out = DATA / "camera_population.npz"
+    arrays = build_population()
+    np.savez_compressed(out, **arrays)
+    print(f"wrote {out} ({arrays['maker'].size} members, {out.stat().st_size / 1e6:.1f} MB)")
 
 
 if __name__ == "__main__":

@@ -230,13 +230,20 @@ def test_climb_rates_are_shown_with_their_band_and_unit():
 
 
 def test_a_reading_with_only_a_range_shows_the_range(web_client, firing_id):
-    # Auto white balance (EXIF WhiteBalance 0) widens the band until only a range is honest:
-    # the firing page must show that range, as the measuring page does, not "no estimate".
-    from glowtemp.synthetic import encode_jpeg, render_photo
+    # A JPEG without exposure data is read from colour alone, and at 1400 °C the camera
+    # population disagrees so much that only a range is honest: the firing page must show that
+    # range, as the measuring page does, not "no estimate".
+    import io
+
+    from PIL import Image
+
+    from glowtemp.synthetic import render_photo
     from glowtemp.synthetic_camera import CAMERAS
 
-    rendered = render_photo(1253.15, camera=CAMERAS["Nikon 5100 (NPL)"], size=(160, 120), white_balance="auto")
-    answer = upload(web_client, firing_id, encode_jpeg(rendered))
+    rendered = render_photo(1673.15, camera=CAMERAS["Nikon 5100 (NPL)"], size=(160, 120))
+    bare = io.BytesIO()
+    Image.fromarray(rendered.codes).save(bare, "JPEG", quality=92)  # no EXIF: no exposure data
+    answer = upload(web_client, firing_id, bare.getvalue())
     assert answer.status_code == 201
     result = answer.get_json()
     assert result["status"] == "wide"

@@ -11,6 +11,7 @@ from glowtemp.photo import load_photo
 from glowtemp.profile import (
     CameraProfile,
     Pair,
+    PROFILE_VERSION,
     ProfileError,
     fit_profile,
     fit_ratio_map,
@@ -119,7 +120,7 @@ def test_profile_file_reads_back_identically(tmp_path):
     save_profile(tmp_path, profile)
     again = load_profile(tmp_path, "round trip")
     assert again.to_dict() == profile.to_dict()
-    assert json.loads((tmp_path / "profiles" / "round_trip.json").read_text())["version"] == 1
+    assert json.loads((tmp_path / "profiles" / "round_trip.json").read_text())["version"] == PROFILE_VERSION == 2
 
 
 def test_newer_profile_format_is_refused_plainly(tmp_path):

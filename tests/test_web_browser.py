@@ -183,9 +183,19 @@ def test_units_switch_and_the_choice_is_remembered(live_server, browser_page, ar
     assert shown_value(page) == f"{reading['temperature_c']}°C"
 
 
-def test_a_ceiling_is_shown_as_below_about(live_server, browser_page, artifacts):
+def test_a_ceiling_is_shown_as_below_about(live_server, browser_page, artifacts, tmp_path):
+    # A 600 °C glow saved without EXIF: no exposure data, so colour alone, and in sRGB that gives
+    # only a ceiling (colour-science puts the blackbody's linear green below zero there).
+    from PIL import Image
+
+    from glowtemp.synthetic import render_photo
+    from glowtemp.synthetic_camera import CAMERAS
+
+    rendered = render_photo(873.15, camera=CAMERAS["Nikon 5100 (NPL)"], size=(320, 240), tripod=True)
+    bare = tmp_path / "no-exif-600.jpg"
+    Image.fromarray(rendered.codes).save(bare, "JPEG", quality=92)
     page = browser_page
-    reading = upload(page, live_server, DEMO_IMAGES / "alder_lane_0900_650C.jpg")
+    reading = upload(page, live_server, bare)
     assert reading["status"] == "upper-bound"
     assert shown_value(page) == f"below about {reading['upper_bound_c']}°C"
     codes = page.eval_on_selector_all("#warnings li", "items => items.map(i => i.dataset.code)")

@@ -14,7 +14,6 @@ import pytest
 from conftest import BAR_COOL_END_C, tile_truth_c
 
 from glowtemp.photo import load_photo
-from glowtemp.raw import uncalibrated_term
 from glowtemp.reading import measure
 from glowtemp.region import parse_region
 from glowtemp.tilemap import temperature_map, with_map
@@ -47,7 +46,7 @@ def test_the_map_is_the_core_s_map_of_the_stored_region_and_is_stored(web_app, w
     photo = load_photo(data)
     region = parse_region(bar_reading["region"]["text"])
     reading = measure(photo, photo_name=stored_name(data))
-    expected = with_map(reading, temperature_map(photo, region, camera=uncalibrated_term(photo))).to_dict()
+    expected = with_map(reading, temperature_map(photo, region)).to_dict()
     assert {k: v for k, v in body.items() if k not in MAP_KEYS} == expected
     assert body["region"]["found"] is True  # still the area the glow finder chose
     assert body["map_url"] == f"/api/readings/{bar_reading['id']}/map.svg"

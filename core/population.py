@@ -1,0 +1,104 @@
+"""The camera prior: what a population of real and virtual cameras records from glow.
+
+The table ``data/camera_population.npz`` is written by :mod:`glowtemp.population_build` (from
+the 38 measured cameras of the Academy Software Foundation's rawtoaces data, Apache-2.0, see
+``data/NOTICE.md``; colour-science's NPL cameras; and a parametric family). For each member,
+output space, temperature (10 K steps) and recorded red level it holds the green/red and
+blue/red the estimator will observe and the brightness response. Loading it needs numpy only.
+
+The estimator marginalises over the members: its likelihood is the members' mixture
+(:func:`glowtemp.estimate.estimate_temperature`), so the band is wide where cameras disagree
+and narrow where they agree. Every sensor weighs the same, shared by its draws.
+
+References
+----------
+- G. J. McLachlan and D. Peel, Finite Mixture Models, Wiley (2000), ch. 1 (mixture likelihood).
+- D. S. Sivia and J. Skilling, Data Analysis: A Bayesian Tutorial, 2nd ed. (2006), ch. 3
+  (marginalising a nuisance parameter, here the camera).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import lru_cache
+from pathlib import Path
+
+import numpy as np
+
+TABLE_PATH = Path(__file__).with_name("data") / "camera_population.npz"
+
+
+@dataclass(frozen=True)
+class Population:
+    """Members of the camera prior: labels and, per space, their tables on the 10 K grid."""
+
+    temperature_k: np.ndarray  # (t,)
+    red_levels: np.ndarray  # (levels,) recorded red, share of full code
+    maker: np.ndarray  # (members,)
+    sensor: np.ndarray
+    tone_curve: np.ndarray
+    ratios: dict  # space name -> (members, levels, t, 2)
+    log_response: dict  # space name -> (members, levels, t)
+    auto_ratios: dict  # space name -> (members, levels, t, 2) with automatic white balance
+    keep: np.ndarray  # (members,) bool: the members in use
+
+    @property
+    def weights(self) -> np.ndarray:
+        """One weight per sensor, shared by its draws; members left out weigh nothing."""
+        weights = np.zeros(self.maker.size)
+        sensors, index, counts = np.unique(self.sensor[self.keep], return_inverse=True, return_counts=True)
+        weights[self.keep] = 1.0 / counts[index]
+        return weights / weights.sum()
+
+    def without(self, maker: str | None = None, tone_curve: str | None = None) -> "Population":
+        """The prior built without one maker's sensors and/or one tone curve (for validation)."""
+        keep = self.keep.copy()
+        if maker is not None:
+            keep &= self.maker != maker
+        if tone_curve is not None:
+            keep &= self.tone_curve != tone_curve
+        if not keep.any():
+            raise ValueError("Leaving those out would leave no camera in the prior.")
+        return Population(self.temperature_k, self.red_levels, self.maker, self.sensor,
+                          self.tone_curve, self.ratios, self.log_response, self.auto_ratios, keep)
+
+    def knows(self, space_name: str, auto_white_balance: bool = False) -> bool:
+        return space_name in (self.auto_ratios if auto_white_balance else self.ratios)
+
+    def at_level(self, space_name: str, red_level: float, auto_white_balance: bool = False):
+        """Members' (ratios (m, t, 2), log_response (m, t)) at a recorded red level, linearly
+        interpolated between the table's levels (held at the ends); members in use only. With
+        ``auto_white_balance`` the ratios are those of the camera's automatic balance."""
+        ratios = (self.auto_ratios if auto_white_balance else self.ratios)[space_name]
+        response = self.log_response[space_name]
+        if ratios.shape[1] == 1:
+            return ratios[self.keep, 0].astype(float), response[self.keep, 0].astype(float)
+        level = float(np.clip(red_level, self.red_levels[0], self.red_levels[-1]))
+        upper = int(np.clip(np.searchsorted(self.red_levels, level), 1, self.red_levels.size - 1))
+        share = (level - self.red_levels[upper - 1]) / (self.red_levels[upper] - self.red_levels[upper - 1])
+        pick = lambda table: ((1 - share) * table[self.keep, upper - 1].astype(float)  # noqa: E731
+                              + share * table[self.keep, upper].astype(float))
+        return pick(ratios), pick(response)
+
+
+@lru_cache(maxsize=1)
+def camera_population() -> Population:
+    """The shipped camera prior (loaded once per process)."""
+    with np.load(TABLE_PATH) as table:
+        spaces = [str(table[key]) for key in sorted(table.files) if key.startswith("space_")]
+        indices = [key.split("_")[1] for key in sorted(table.files) if key.startswith("space_")]
+        ratios = {name: table[f"ratios_{i}"] for name, i in zip(spaces, indices)}
+        response = {name: table[f"log_response_{i}"] for name, i in zip(spaces, indices)}
+        auto = {name: table[f"auto_ratios_{i}"] for name, i in zip(spaces, indices) if f"auto_ratios_{i}" in table.files}
+        maker = table["maker"].astype(str)
+        return Population(
+            temperature_k=table["temperature_k"].astype(float),
+            red_levels=table["red_levels"].astype(float),
+            maker=maker,
+            sensor=table["sensor"].astype(str),
+            tone_curve=table["tone_curve"].astype(str),
+            ratios=ratios,
+            log_response=response,
+            auto_ratios=auto,
+            keep=np.ones(maker.size, dtype=bool),
+        )
