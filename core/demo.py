@@ -26,6 +26,7 @@ DEMO_NOTES = (
 GLAZE_NOTES_START = "glaze firing"
 THERMOCOUPLE_READS_LOW = 0.006  # fraction; within IEC 60584-1 type K class 2 (0.0075 |t|)
 DEMO_CONE = "6"
+DEMO_SCENE = "kiln"  # spy-hole photos of a kiln's inside
 
 
 def demo_rows(demo_dir: Path) -> list[dict]:
@@ -55,7 +56,7 @@ def seed_demo(log, demo_dir: Path) -> int | None:
     for row in rows:
         data = (Path(demo_dir) / row["file"]).read_bytes()
         photo = load_photo(data)
-        result = measure(photo, photo_name=row["file"]).to_dict()
+        result = measure(photo, photo_name=row["file"], scene=DEMO_SCENE).to_dict()
         measured.append((row, data, photo, result))
     measured.sort(key=lambda item: (item[2].metadata.taken_at is None, item[2].metadata.taken_at, item[0]["file"]))
     first_time = measured[0][2].metadata.taken_at
