@@ -367,7 +367,10 @@ def estimate_temperature(
     mean_linear = np.asarray(mean_linear, dtype=float)
     if not np.all(np.isfinite(mean_linear)) or mean_linear.max() <= 0:
         return refused("no-data")
-    if mean_linear[0] <= 0:  # light with no red at all: no hot body glows like that
+    errors = np.asarray(standard_error, dtype=float)
+    if np.any(mean_linear[1:] > mean_linear[0] + 3 * np.hypot(errors[0], errors[1:])):
+        # green or blue clearly above red: glow below 6000 K is red-heavy (Planck's law in any of
+        # these spaces), even pulled towards white by automatic white balance
         return refused("not-glow", refusal="not-glow-colour")
     cameras = _cameras_for(camera, space, mean_linear[0] if red_level is None else None, red_level)
     ratios, errors = observed_ratios(mean_linear, standard_error)

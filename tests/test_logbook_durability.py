@@ -4,7 +4,6 @@ import os
 import signal
 import subprocess
 import sys
-import time
 
 from glowtemp.logbook import Logbook
 from glowtemp.photo_store import TEMPORARY_PREFIX, photo_key
@@ -24,15 +23,22 @@ while True:
     key = log.store_photo(data, ".jpg")
     log.add_reading(photo_key=key, photo_name=f"{n}.jpg", result={"status": "ok", "temperature_c": 900 + n},
                     taken_at=datetime.now(timezone.utc), firing_id=firing_id)
+    print(n, flush=True)
 """
+STORED_BEFORE_KILL = 6  # readings the writer reports stored before it is killed
 
 
 def kill_writer_midway(folder) -> bool:
     """Run the writer, kill it, and tell whether it left a half-written temporary file."""
     writer = subprocess.Popen([sys.executable, "-c", WRITER, str(folder)], stdout=subprocess.PIPE)
     assert writer.stdout.readline().strip() == b"ready"
-    time.sleep(0.4)
-    os.kill(writer.pid, signal.SIGKILL)
+    while int(writer.stdout.readline()) < STORED_BEFORE_KILL:  # wait for progress, not for time
+        pass
+    photos = folder / "photos"
+    for _ in range(200_000):  # until the next photo's temporary file exists (bounded)
+        if any(p.name.startswith(TEMPORARY_PREFIX) for p in photos.iterdir()):
+            break
+    os.kill(writer.pid, signal.SIGKILL)  # the writer is now inside its next 1 MB photo write
     writer.wait()
     assert writer.returncode == -signal.SIGKILL
     return any(p.name.startswith(TEMPORARY_PREFIX) for p in (folder / "photos").iterdir())
@@ -51,7 +57,7 @@ def test_killed_writer_leaves_every_row_with_its_whole_photo(tmp_path):
     with Logbook(folder) as log:
         (firing,) = log.list_firings()
         readings = log.readings_in(firing["id"])
-        assert len(readings) > 5  # the writer got well under way before it was killed
+        assert len(readings) >= STORED_BEFORE_KILL  # every reading it reported stored is there
         for reading in readings:
             data = log.photo_path(reading["photo_key"]).read_bytes()
             assert photo_key(data, ".jpg") == reading["photo_key"]  # complete: its hash matches its name

@@ -201,3 +201,23 @@ def test_profile_fit_refuses_a_pairs_row_naming_what_is_not_a_regular_file(tmp_p
 def test_profile_fit_refuses_a_pairs_file_that_is_a_fifo(tmp_path):
     done = run_bounded(["profile", "fit", "p", a_fifo(tmp_path), "--data", str(tmp_path / "data")], tmp_path)
     assert done.returncode == 2 and "pipe (FIFO)" in done.stderr
+
+
+@pytest.mark.parametrize("peak_nm, width_nm", [(530, 15), (460, 12)], ids=["green LED", "blue LED"])
+def test_a_coloured_led_is_found_and_called_no_glow_colour(peak_nm, width_nm):
+    # A narrow-band LED (Gaussian spectrum; CIE 1931 colour far from the Planckian locus,
+    # colour-science) through a round opening: the finder must find it (its brightest channel is
+    # not red) and the reading must name its colour, not darkness or exposure.
+    import numpy as np
+
+    from glowtemp.synthetic import render_light_photo
+
+    wavelengths = np.arange(380.0, 781.0)
+    spectrum = np.exp(-0.5 * ((wavelengths - peak_nm) / width_nm) ** 2)
+    rendered = render_light_photo(wavelengths, spectrum, camera=PHONE, size=(200, 150), seed=4)
+    photo = load_photo(encode_jpeg(rendered))
+    for region in (None, Circle(*(round(v) for v in rendered.region.circle))):
+        result = measure(photo, region).to_dict()
+        codes = [w["code"] for w in result["warnings"]]
+        assert result["status"] == "not-glow" and "not-glow-colour" in codes
+        assert not {"too-dark", "no-usable-pixels"} & set(codes)

@@ -7,6 +7,7 @@ Neither is glow. LittleCMS (Pillow's ImageCms) and libheif (pillow-heif) are the
 """
 
 import io
+import json
 from datetime import datetime
 
 import numpy as np
@@ -14,6 +15,7 @@ import pillow_heif
 import pytest
 from PIL import Image, ImageCms
 
+from glowtemp import cli
 from glowtemp.colourspaces import DISPLAY_P3, SRGB, srgb_encode
 from glowtemp.photo import load_photo
 
@@ -94,3 +96,26 @@ def test_thumbnails_depth_and_auxiliary_images_are_never_read():
     assert (options.THUMBNAILS, options.DEPTH_IMAGES, options.AUX_IMAGES) == (False, False, False)
     info = Image.open(io.BytesIO(data)).info
     assert not info.get("thumbnails") and not info.get("depth_images") and not info.get("aux")
+
+
+@pytest.mark.parametrize("path", [FLOWERS_HEIC, KITCHEN_HEIC], ids=lambda path: path.name)
+def test_daylight_and_room_photos_are_refused_as_not_glow_on_the_command_line(path, capsys):
+    # Flowers in daylight and a lamp-lit kitchen (real iPhone files): their colours are whiter
+    # than anything a kiln or forge glows with, or no glow colour at all, so no temperature.
+    assert cli.main(["measure", str(path), "--json"]) == 0
+    result = json.loads(capsys.readouterr().out)
+    assert result["status"] == "not-glow"
+    assert result["temperature_c"] is None and result["interval_95_c"] is None and result["upper_bound_c"] is None
+    codes = {w["code"] for w in result["warnings"]}
+    assert codes & {"daylight-or-lamp", "not-glow-colour"}
+    assert not codes & {"too-dark", "no-usable-pixels"}
+
+
+@pytest.mark.parametrize("path", [FLOWERS_HEIC, KITCHEN_HEIC], ids=lambda path: path.name)
+def test_daylight_and_room_photos_are_refused_as_not_glow_through_the_web_upload(path, web_client):
+    answer = web_client.post("/api/readings", data={"photo": (io.BytesIO(real_file(path)), path.name)},
+                             content_type="multipart/form-data")
+    result = answer.get_json()
+    assert answer.status_code == 201, result  # stored as a reading that gives no temperature
+    assert result["status"] == "not-glow" and result["temperature_c"] is None and result["interval_95_c"] is None
+    assert {w["code"] for w in result["warnings"]} & {"daylight-or-lamp", "not-glow-colour"}
