@@ -2,7 +2,7 @@
 
 Layout of a bundle::
 
-    manifest.json          {"format": "glowtemp-firing-bundle", "version": 1, "firing": {...},
+    manifest.json          {"format": "glowtemp-firing-bundle", "version": 2, "firing": {...},
                             "readings": [...], "photos": {key: {"sha256": ..., "bytes": ...}}}
     photos/<key>           each photo once, under its content key (SHA-256 hex + suffix)
 
@@ -20,6 +20,11 @@ Importing the same bundle twice makes a second firing: when the log already has 
 of that name, the new one is named "<name> (imported copy)", then "(imported copy 2)" and
 so on. Ids are new; every other field, each reading's times and results, and the photos'
 bytes are kept exactly.
+
+Version 2 adds the firing's ``scene`` and each reading's ``magnet``; a version-1 bundle is
+still imported, its firing getting the scene its kind suggests and its readings no magnet
+value. (A bundle of version 2 is refused by a glowtemp that reads only version 1, rather
+than imported without its magnet values.)
 """
 
 from __future__ import annotations
@@ -35,7 +40,8 @@ from .photo import LARGEST_FILE_BYTES, STORED_SUFFIXES, PhotoError, photo_format
 from .photo_store import KEY_PATTERN
 
 FORMAT_NAME = "glowtemp-firing-bundle"
-FORMAT_VERSION = 1
+FORMAT_VERSION = 2
+READ_VERSIONS = (1, 2)  # version 1 has no scene and no magnet values
 MANIFEST_NAME = "manifest.json"
 PHOTO_FOLDER = "photos/"
 LARGEST_PHOTO_BYTES = LARGEST_FILE_BYTES
@@ -44,8 +50,10 @@ LARGEST_BUNDLE_BYTES = 20 * 1024 * 1024 * 1024  # unpacked, from the zip's direc
 MOST_PHOTOS = 10_000
 HASH_CHUNK_BYTES = 1 << 20
 
-FIRING_KEYS = ("name", "kiln", "kind", "target_c", "target_cone", "started_at", "notes", "status", "closed_at", "created_at")
-READING_KEYS = ("photo_key", "photo_name", "taken_at", "created_at", "result", "reference_c", "cone", "cone_state", "note")
+FIRING_KEYS = ("name", "kiln", "kind", "scene", "target_c", "target_cone", "started_at", "notes", "status", "closed_at",
+               "created_at")  # fmt: skip
+READING_KEYS = ("photo_key", "photo_name", "taken_at", "created_at", "result", "reference_c", "cone", "cone_state",
+                "magnet", "note")  # fmt: skip
 
 
 class BundleError(ValueError):
@@ -131,10 +139,11 @@ def _read_manifest(bundle: zipfile.ZipFile) -> dict:
         raise BundleError(f"The bundle's {MANIFEST_NAME} cannot be read ({error}).") from None
     if not isinstance(manifest, dict) or manifest.get("format") != FORMAT_NAME:
         raise BundleError(f"The bundle's {MANIFEST_NAME} does not describe a {FORMAT_NAME}.")
-    if manifest.get("version") != FORMAT_VERSION:
+    version = manifest.get("version")
+    if type(version) is not int or version not in READ_VERSIONS:  # true and 1.0 equal 1 in Python
         raise BundleError(
-            f"The bundle has format version {manifest.get('version')!r}; this glowtemp reads version "
-            f"{FORMAT_VERSION}. Update glowtemp to import it."
+            f"The bundle has format version {version!r}; this glowtemp reads versions "
+            f"{' and '.join(map(str, READ_VERSIONS))}. Update glowtemp to import it."
         )
     firing, readings, photos = manifest.get("firing"), manifest.get("readings"), manifest.get("photos")
     if not isinstance(firing, dict) or not isinstance(readings, list) or not isinstance(photos, dict):

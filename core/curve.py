@@ -45,6 +45,7 @@ class CurvePoint:
     cone: str | None
     cone_state: str | None
     cone_c: float | None
+    magnet_c: float | None = None  # iron's Curie point where the magnet let go, else None
 
 
 def elapsed_hours(start: str, moment: str) -> float:
@@ -70,7 +71,12 @@ def curve_points(firing: dict, readings: list[dict], cone_temperatures_c: dict[s
 
     ``cone_temperatures_c`` maps cone names to their approximate bending temperature
     (:func:`glowtemp.cones.cone_table`); a cone missing from it gets no height on the chart.
+    A reading whose magnet let go is placed at iron's Curie point
+    (:data:`glowtemp.profile.CURIE_POINT_IRON_C`), approximate for alloyed steels.
     """
+    from .logbook_fields import MAGNET_LET_GO
+    from .profile import CURIE_POINT_IRON_C
+
     start = curve_start(firing, readings)
     points = [
         CurvePoint(
@@ -84,6 +90,7 @@ def curve_points(firing: dict, readings: list[dict], cone_temperatures_c: dict[s
             cone=r["cone"],
             cone_state=r["cone_state"],
             cone_c=cone_temperatures_c.get(r["cone"]) if r["cone"] else None,
+            magnet_c=CURIE_POINT_IRON_C if r.get("magnet") == MAGNET_LET_GO else None,
         )
         for r in readings
     ]

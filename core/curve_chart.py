@@ -3,7 +3,9 @@
 Upper panel: the estimated temperature with its 95 % band (light) and 68 % band (darker),
 ceilings for readings whose colour gives only an upper bound, thermocouple values as
 diamonds, witness cones as triangles at their approximate bending temperature (filled when
-bent, hollow when standing) labelled with their cone, and the target as a dashed line.
+bent, hollow when standing) labelled with their cone, readings whose magnet let go as a
+horseshoe (a marker drawn here, :func:`horseshoe_marker`) at iron's Curie point, labelled, and
+the target as a dashed line.
 Lower panel: the climb rate between consecutive estimates, as steps, shaded over its band
 (one standard uncertainty either side, the 68 % band, propagated from the readings' own
 bands as :func:`glowtemp.curve.step_rate_band_c_per_h` does after GUM 5.1.2).
@@ -37,6 +39,8 @@ BAND95_COLOUR = "#f4c59b"
 BAND68_COLOUR = "#e9995a"
 THERMOCOUPLE_COLOUR = "#24507a"
 CONE_COLOUR = "#2e6b3f"
+MAGNET_COLOUR = "#6b2d5c"
+MAGNET_GID = "magnet-let-go"  # the markers' id in the SVG
 TARGET_COLOUR = "#6a6a6a"
 RATE_COLOUR = "#5c4d3d"
 RATE_BAND_COLOUR = "#d8c8b4"
@@ -137,6 +141,7 @@ def _figure(points, target_c, target_label, unit: str, title: str | None, size_i
         heat.plot([p.hours for p in references], [convert(p.reference_c) for p in references], linestyle="none",
                   marker="D", markersize=5, color=THERMOCOUPLE_COLOUR, label="thermocouple")  # fmt: skip
     _draw_cones(heat, [p for p in points if p.cone_c is not None], convert)
+    _draw_magnets(heat, [p for p in points if p.magnet_c is not None], convert, unit)
     if target_c is not None:
         heat.axhline(convert(target_c), color=TARGET_COLOUR, linestyle="--", linewidth=1.0, label=target_label or "target")
 
@@ -169,6 +174,32 @@ def _draw_cones(axes, cones: list[CurvePoint], convert) -> None:
                 labelled.add((p.cone, state))
                 axes.annotate(f"cone {p.cone}", (p.hours, convert(p.cone_c)), textcoords="offset points",
                               xytext=(4, 6), fontsize="x-small", color=CONE_COLOUR)  # fmt: skip
+
+
+def horseshoe_marker():
+    """A horseshoe magnet, open side up, as a matplotlib marker path: two arms joined by a
+    half ring (outer radius 1, inner 0.45), closed as one outline."""
+    import numpy as np
+    from matplotlib.path import Path
+
+    turn = np.linspace(np.pi, 2 * np.pi, 13)
+    outer = np.column_stack([np.cos(turn), np.sin(turn)])
+    inner = 0.45 * outer[::-1]
+    outline = np.vstack([[(-1.0, 1.0)], outer, [(1.0, 1.0), (0.45, 1.0)], inner, [(-0.45, 1.0), (-1.0, 1.0)]])
+    codes = [Path.MOVETO] + [Path.LINETO] * (len(outline) - 2) + [Path.CLOSEPOLY]
+    return Path(outline, codes)
+
+
+def _draw_magnets(axes, magnets: list[CurvePoint], convert, unit: str) -> None:
+    """Readings whose magnet let go, at iron's Curie point, the first one labelled."""
+    if not magnets:
+        return
+    height = convert(magnets[0].magnet_c)
+    axes.plot([p.hours for p in magnets], [height] * len(magnets), linestyle="none", marker=horseshoe_marker(),
+              markersize=9, color=MAGNET_COLOUR, label=f"magnet let go (about {height:.0f} °{unit})",
+              gid=MAGNET_GID)  # fmt: skip
+    axes.annotate("magnet let go", (magnets[0].hours, height), textcoords="offset points", xytext=(5, -12),
+                  fontsize="x-small", color=MAGNET_COLOUR)  # fmt: skip
 
 
 def _render(figure, image_format: str) -> bytes:

@@ -33,8 +33,8 @@ PHOTOS_FOLDER = "photos"
 BUSY_TIMEOUT_S = 10.0
 ORPHAN_GRACE_S = 3600.0  # a photo no row names is swept only when older than this
 
-TRUSTED_FIELDS = ("reference_c", "cone", "cone_state", "note", "taken_at", "firing_id")
-FIRING_FIELDS = ("name", "kiln", "kind", "target_c", "target_cone", "started_at", "notes", "status")
+TRUSTED_FIELDS = ("reference_c", "cone", "cone_state", "magnet", "note", "taken_at", "firing_id")
+FIRING_FIELDS = ("name", "kiln", "kind", "scene", "target_c", "target_cone", "started_at", "notes", "status")
 
 
 class UploadConflict(LogbookError):
@@ -47,6 +47,7 @@ def _firing_values(known_cones, **given) -> dict:
         "name": lambda v: fields.text(v, "firing name", required=True),
         "kiln": lambda v: fields.text(v, "kiln or forge name"),
         "kind": lambda v: fields.choice(v, fields.FIRING_KINDS, "kind of firing"),
+        "scene": fields.scene,
         "target_c": lambda v: fields.temperature_c(v, "target temperature"),
         "target_cone": lambda v: fields.cone(v, known_cones, "target cone"),
         "started_at": lambda v: fields.time_text(v, "start time"),
@@ -180,11 +181,13 @@ class Logbook:
     # Firings
 
     def create_firing(
-        self, *, name, kiln=None, kind="glaze", target_c=None, target_cone=None, started_at=None, notes=None
-    ) -> int:
-        """Start a new open firing; returns its id."""
+        self, *, name, kiln=None, kind="glaze", scene=None, target_c=None, target_cone=None, started_at=None,
+        notes=None,
+    ) -> int:  # fmt: skip
+        """Start a new open firing; returns its id. Without ``scene`` it is the one its kind suggests."""
         values = _firing_values(
             self._known_cones(), name=name, kiln=kiln, kind=kind, target_c=target_c, target_cone=target_cone, notes=notes,
+            scene=fields.scene_for_kind(kind) if scene in (None, "") else scene,
             started_at=fields.utc_now() if started_at is None else started_at,
         )  # fmt: skip
         values.update(status="open", created_at=fields.utc_now())
@@ -220,7 +223,11 @@ class Logbook:
         return [dict(row) for row in rows]
 
     def update_firing(self, firing_id: int, /, **changes) -> dict:
-        """Change a firing's fields (name, kiln, kind, target_c, target_cone, started_at, notes, status)."""
+        """Change a firing's fields (name, kiln, kind, scene, target_c, target_cone, started_at, notes, status).
+
+        A changed kind keeps the firing's scene: it was chosen (or defaulted) once, and changes
+        only when ``scene`` is given.
+        """
         values = _firing_values(self._known_cones(), **changes)
         with self._write() as db:
             current = self._need_firing(firing_id)
@@ -247,18 +254,18 @@ class Logbook:
 
     def add_reading(
         self, *, photo_key, photo_name, result: dict, taken_at, firing_id=None,
-        reference_c=None, cone=None, cone_state=None, note=None,
+        reference_c=None, cone=None, cone_state=None, magnet=None, note=None,
     ) -> int:  # fmt: skip
         """Record a measured photo (already stored with :meth:`store_photo`); returns the reading id."""
         reading_id, _ = self.add_uploaded_reading(
             None, photo_key=photo_key, photo_name=photo_name, result=result, taken_at=taken_at, firing_id=firing_id,
-            reference_c=reference_c, cone=cone, cone_state=cone_state, note=note,
+            reference_c=reference_c, cone=cone, cone_state=cone_state, magnet=magnet, note=note,
         )  # fmt: skip
         return reading_id
 
     def add_uploaded_reading(
         self, upload_id, *, photo_key, photo_name, result: dict, taken_at, firing_id=None,
-        reference_c=None, cone=None, cone_state=None, note=None,
+        reference_c=None, cone=None, cone_state=None, magnet=None, note=None,
     ) -> tuple[int, bool]:  # fmt: skip
         """Record a measured photo once per ``upload_id``; returns (reading id, whether it is new).
 
@@ -270,7 +277,7 @@ class Logbook:
         """
         upload_id = fields.upload_id(upload_id)
         values = self._trusted_values(
-            reference_c=reference_c, cone=cone, cone_state=cone_state, note=note, taken_at=taken_at
+            reference_c=reference_c, cone=cone, cone_state=cone_state, magnet=magnet, note=note, taken_at=taken_at
         )
         _check_cone_pair(values["cone"], values["cone_state"])
         values.update(
@@ -333,6 +340,7 @@ class Logbook:
             "reference_c": lambda v: fields.temperature_c(v, "thermocouple reading"),
             "cone": lambda v: fields.cone(v, known_cones),
             "cone_state": lambda v: None if v in (None, "") else fields.choice(v, fields.CONE_STATES, "cone state"),
+            "magnet": fields.magnet,
             "note": lambda v: fields.text(v, "note", longest=fields.LONGEST_NOTE),
             "taken_at": lambda v: fields.time_text(v, "time the photo was taken"),
             "firing_id": lambda v: v,
@@ -372,7 +380,7 @@ class Logbook:
         return self._update_reading(reading_id, values)
 
     def update_reading(self, reading_id: int, /, **trusted_fields) -> dict:
-        """Change trusted values: reference_c, cone, cone_state, note, taken_at (or firing_id)."""
+        """Change trusted values: reference_c, cone, cone_state, magnet, note, taken_at (or firing_id)."""
         values = self._trusted_values(**trusted_fields)
         return self._update_reading(reading_id, values)
 
@@ -405,14 +413,19 @@ class Logbook:
         """Insert a firing and its readings in one transaction, keeping their times; returns the new id.
 
         ``firing`` has the columns of :meth:`get_firing` (id and counts are ignored); each reading
-        has those of :meth:`get_reading`. Every photo must already be in the store.
+        has those of :meth:`get_reading`. Every photo must already be in the store. A firing
+        without a scene (written before firings had one) gets the one its kind suggests; a
+        reading without a magnet value has none.
         """
         return self.insert_restored(self.check_restored(firing, readings))
 
     def check_restored(self, firing: dict, readings: list[dict]) -> tuple[dict, list[dict]]:
         """Every field of a firing and its readings checked, as rows for :meth:`insert_restored`;
         nothing is stored, and photos need not be in the store yet (their keys are checked)."""
-        firing_values = _firing_values(self._known_cones(), **{name: firing.get(name) for name in FIRING_FIELDS})
+        given = {name: firing.get(name) for name in FIRING_FIELDS}
+        if given["scene"] is None:
+            given["scene"] = fields.scene_for_kind(given["kind"])
+        firing_values = _firing_values(self._known_cones(), **given)
         firing_values.update(
             closed_at=None if firing.get("closed_at") is None else fields.time_text(firing["closed_at"], "closing time"),
             created_at=fields.time_text(firing.get("created_at"), "creation time"),

@@ -4,7 +4,9 @@ Spreadsheets run a cell that starts with ``=``, ``+``, ``-``, ``@``, a tab or a 
 return as a formula. Following the OWASP guidance on CSV injection, such text cells get a
 leading apostrophe (shown by spreadsheets as plain text), and every text cell is quoted;
 numbers, including plain negative ones such as ``-12.5``, stay numbers. ``elapsed_h`` counts
-from the start of the firing's curve (:func:`glowtemp.curve.curve_start`).
+from the start of the firing's curve (:func:`glowtemp.curve.curve_start`). ``magnet`` is the
+trusted "let go" of plain carbon steel; ``scene``, ``emissivity_low``/``emissivity_high`` and
+``channels`` say what the reading was measured as and what set its band.
 
 References
 ----------
@@ -26,7 +28,8 @@ PLAIN_NUMBER = re.compile(r"-?\d+(\.\d+)?", re.ASCII)  # digits 0-9 only: "-١٢
 COLUMNS = (
     "reading_id", "taken_at", "elapsed_h", "photo_name", "photo_sha256", "status",
     "estimate_c", "band68_low_c", "band68_high_c", "band95_low_c", "band95_high_c", "upper_bound_c",
-    "estimate_f", "glow_name", "reference_c", "cone", "cone_state", "note", "region", "profile", "warnings",
+    "estimate_f", "glow_name", "reference_c", "cone", "cone_state", "magnet", "note", "region", "profile",
+    "scene", "emissivity_low", "emissivity_high", "channels", "warnings",
 )  # fmt: skip
 
 
@@ -49,6 +52,7 @@ def _band(reading, key, index):
 def reading_row(start: str, reading: dict) -> list:
     """One reading as the CSV's cells (before neutralising); hours count from ``start``."""
     result = reading["result"]
+    emissivity = result.get("emissivity") or (None, None)
     return [
         reading["id"],
         reading["taken_at"],
@@ -67,9 +71,14 @@ def reading_row(start: str, reading: dict) -> list:
         reading["reference_c"],
         reading["cone"],
         reading["cone_state"],
+        reading.get("magnet"),
         reading["note"],
         reading["region_text"],
         reading["profile"],
+        result.get("scene"),
+        emissivity[0],
+        emissivity[1],
+        " ".join(result.get("channels") or []),
         " ".join(w.get("code", "") for w in result.get("warnings") or []),
     ]
 

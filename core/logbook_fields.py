@@ -1,6 +1,10 @@
 """What a firing and a reading may hold: the allowed values, checked with plain-word errors.
 
-Cones are those of the cone table in use (:mod:`glowtemp.cones`). Times are kept as ISO 8601 text in UTC (``2024-03-01T18:30:00+00:00``),
+Cones are those of the cone table in use (:mod:`glowtemp.cones`). A firing's scene kind (what
+is photographed, which sets the emissivity prior of the brightness channel) is one of
+:data:`glowtemp.brightness.SCENES`; a firing not told one gets the scene its kind of work
+suggests (:data:`SCENE_BY_KIND`). A reading's magnet value records the smith's test that plain
+carbon steel stopped attracting a magnet (:data:`MAGNET_LET_GO`). Times are kept as ISO 8601 text in UTC (``2024-03-01T18:30:00+00:00``),
 so they sort as text and carry their offset; a time without an offset is read as the
 machine's local time.
 """
@@ -17,6 +21,11 @@ from .scales import ABSOLUTE_ZERO_C
 FIRING_KINDS = ("bisque", "glaze", "glass", "forging", "heat treatment", "other")
 FIRING_STATUSES = ("open", "closed")
 CONE_STATES = ("standing", "bent")
+# The scene a kind of work photographs, unless the firing is told another: kilns are seen
+# through a spy hole, forging and heat treatment are hot steel (common practice).
+SCENE_BY_KIND = {"bisque": "kiln", "glaze": "kiln", "glass": "kiln", "forging": "steel", "heat treatment": "steel",
+                 "other": "other"}  # fmt: skip
+MAGNET_LET_GO = "let go"  # the one magnet value: it stopped attracting the steel
 LOWEST_C = ABSOLUTE_ZERO_C
 HIGHEST_C = 3000.0  # far above any kiln or forge; guards against typing mistakes
 LONGEST_NAME = 200
@@ -147,3 +156,39 @@ def choice(value, allowed: tuple, what: str) -> str:
     if not isinstance(value, str) or value not in allowed:
         raise LogbookError(f"The {what} must be one of {', '.join(allowed)}; got {shown(value)}.")
     return value
+
+
+def scene_for_kind(kind) -> str:
+    """The scene a kind of work photographs (:data:`SCENE_BY_KIND`); "other" for an unknown kind.
+
+    >>> scene_for_kind("forging"), scene_for_kind("glaze")
+    ('steel', 'kiln')
+    """
+    return SCENE_BY_KIND.get(kind, "other") if isinstance(kind, str) else "other"
+
+
+def scene(value, what: str = "scene (what is photographed)") -> str:
+    """A scene kind of :data:`glowtemp.brightness.SCENES`, refused naming the allowed ones.
+
+    >>> scene("steel")
+    'steel'
+    """
+    from .brightness import SCENES  # numpy is loaded only where a scene is checked
+
+    return choice(value, tuple(SCENES), what)
+
+
+def magnet(value) -> str | None:
+    """:data:`MAGNET_LET_GO` (any case, spaces around allowed), or None when not given.
+
+    >>> magnet(" Let go "), magnet("")
+    ('let go', None)
+    """
+    if value is None or (isinstance(value, str) and not value.strip()):
+        return None
+    if not isinstance(value, str) or value.strip().lower() != MAGNET_LET_GO:
+        raise LogbookError(
+            f"The magnet value is {MAGNET_LET_GO!r} (plain carbon steel stopped attracting a magnet) or empty; "
+            f"got {shown(value)}."
+        )
+    return MAGNET_LET_GO

@@ -1,10 +1,15 @@
 """A firing's trusted readings as calibration pairs: a camera profile in one step.
 
-Each reading with a thermocouple value, or with a cone seen bent, becomes one pair of the
-pairs CSV that :func:`glowtemp.profile_store.fit_from_csv` reads (photo, reference_c or cone,
-region), the photos copied beside it under the reading's number. A thermocouple value is preferred when a reading has both: it is the tighter
-reference. The photos are the firing log's stored files; the region is the one the reading
-was measured in, so the profile sees the same pixels the user checked.
+Each reading with a thermocouple value, with "magnet let go" (plain carbon steel stopped
+attracting a magnet: iron's Curie point, :data:`glowtemp.profile.CURIE_POINT_IRON_C`), or with a
+cone seen bent becomes one pair of the pairs CSV that :func:`glowtemp.profile_store.fit_from_csv`
+reads (photo, reference_c, cone or magnet, region, scene), the photos copied beside it under the
+reading's number. When a reading has several, the tightest reference is kept: a thermocouple,
+then the magnet (1-sigma :data:`glowtemp.profile.MAGNET_SIGMA_C`), then the cone
+(:data:`glowtemp.cones.CONE_SIGMA_C`). The photos are the firing log's stored files; the region
+is the one the reading was measured in, so the profile sees the same pixels the user checked,
+and each pair's scene is the firing's, which the brightness part of the profile needs to take
+emissivity out.
 """
 
 from __future__ import annotations
@@ -14,28 +19,39 @@ import shutil
 import tempfile
 from pathlib import Path
 
-PAIR_COLUMNS = ("photo", "reference_c", "cone", "region")
+from .logbook_fields import MAGNET_LET_GO
+
+PAIR_COLUMNS = ("photo", "reference_c", "cone", "magnet", "region", "scene")
 
 
-def calibration_pairs(readings: list[dict]) -> list[dict]:
-    """Pairs-CSV rows for the readings that carry a trusted value, one per photo.
+def _reference(reading: dict) -> dict | None:
+    """The reading's tightest trusted value as pairs-CSV cells, or None when it has none."""
+    if reading["reference_c"] is not None:
+        return {"reference_c": repr(reading["reference_c"]), "cone": "", "magnet": ""}
+    if reading.get("magnet") == MAGNET_LET_GO:
+        return {"reference_c": "", "cone": "", "magnet": MAGNET_LET_GO}
+    if reading["cone"] and reading["cone_state"] == "bent":
+        return {"reference_c": "", "cone": reading["cone"], "magnet": ""}
+    return None
+
+
+def calibration_pairs(readings: list[dict], scene: str = "other") -> list[dict]:
+    """Pairs-CSV rows for the readings that carry a trusted value, one per photo, each of ``scene``
+    (the firing's scene kind).
 
     Photos are named ``reading-<id><suffix>``, as :func:`fit_profile_from_firing` lays them out.
     """
     rows, photos = [], set()
     for reading in readings:
-        if reading["reference_c"] is not None:
-            reference = {"reference_c": repr(reading["reference_c"]), "cone": ""}
-        elif reading["cone"] and reading["cone_state"] == "bent":
-            reference = {"reference_c": "", "cone": reading["cone"]}
-        else:
+        reference = _reference(reading)
+        if reference is None:
             continue
         if reading["photo_key"] in photos:  # the same photo twice would count as two pairs
             continue
         photos.add(reading["photo_key"])
         suffix = "." + reading["photo_key"].partition(".")[2]
         rows.append({"photo": f"reading-{reading['id']}{suffix}", **reference, "region": reading["region_text"] or "",
-                     "photo_key": reading["photo_key"]})  # fmt: skip
+                     "scene": scene, "photo_key": reading["photo_key"]})  # fmt: skip
     return rows
 
 
@@ -48,10 +64,12 @@ def fit_profile_from_firing(log, firing_id: int, name: str):
     from .profile import ProfileError
     from .profile_store import fit_from_csv
 
-    rows = calibration_pairs(log.readings_in(firing_id))
+    readings = log.readings_in(firing_id)  # refuses a firing that is not in the log
+    rows = calibration_pairs(readings, log.get_firing(firing_id)["scene"])
     if not rows:
         raise ProfileError(
-            "This firing has no reading with a thermocouple value or a bent cone; add one to a reading first."
+            "This firing has no reading with a thermocouple value, a bent cone or a magnet that let go; "
+            "add one to a reading first."
         )
     with tempfile.TemporaryDirectory() as folder:
         for row in rows:

@@ -11,6 +11,10 @@ with the web server (:mod:`glowtemp.sessions`), by a digest of their session sec
 Version 4 makes firing and reading ids never reused (``AUTOINCREMENT``), so an old bookmark
 of a deleted firing cannot open a newer one, and gives readings the client-made upload id
 that a retried upload is recognised by (one reading per upload id, a unique index).
+Version 5 gives each firing its scene kind (what is photographed: kiln, steel or other, the
+brightness channel's emissivity prior), filled in for existing firings from their kind of work,
+and readings a magnet value beside the thermocouple and the cone (``'let go'``: plain carbon
+steel stopped attracting a magnet).
 
 Migrations run with foreign-key enforcement off, as SQLite's procedure for rebuilding a table
 asks (sqlite.org/lang_altertable.html, section 7), and each is checked with
@@ -142,6 +146,17 @@ CREATE INDEX readings_by_photo ON readings (photo_key);
 CREATE UNIQUE INDEX readings_by_upload ON readings (upload_id);
 """
 
+# The kinds of work and their scenes, spelled out as they were when version 5 was released (not
+# taken from logbook_fields, so this step does not change if the defaults for new firings do).
+VERSION_5 = """
+ALTER TABLE firings ADD COLUMN scene TEXT NOT NULL DEFAULT 'other';
+UPDATE firings SET scene = CASE kind
+    WHEN 'bisque' THEN 'kiln' WHEN 'glaze' THEN 'kiln' WHEN 'glass' THEN 'kiln'
+    WHEN 'forging' THEN 'steel' WHEN 'heat treatment' THEN 'steel'
+    ELSE 'other' END;
+ALTER TABLE readings ADD COLUMN magnet TEXT;
+"""
+
 RESULT_COLUMNS = (
     "status",
     "temperature_c",
@@ -193,7 +208,10 @@ def _version_2(connection: sqlite3.Connection) -> None:
     _fill_result_columns(connection)
 
 
-MIGRATIONS = {1: _run_script(VERSION_1), 2: _version_2, 3: _run_script(VERSION_3), 4: _run_script(VERSION_4)}
+MIGRATIONS = {
+    1: _run_script(VERSION_1), 2: _version_2, 3: _run_script(VERSION_3), 4: _run_script(VERSION_4),
+    5: _run_script(VERSION_5),
+}  # fmt: skip
 CURRENT_VERSION = max(MIGRATIONS)
 
 

@@ -19,6 +19,7 @@ STATUS_WORD = re.compile(r"[a-z][a-z-]{0,39}", re.ASCII)  # "ok", "upper-bound",
 HOTTEST_SHOWN = 20_000.0  # °C, °F or K: beyond the hottest glow any table models
 HEX_COLOUR = re.compile(r"#[0-9a-f]{6}", re.ASCII | re.IGNORECASE)
 LONGEST_TEXT = 5000
+CHANNELS = ("colour", "brightness")  # what a temperature can be read from (glowtemp.estimate)
 
 
 class ResultError(ValueError):
@@ -81,6 +82,30 @@ def warnings(value, name: str) -> None:
             raise ResultError(f"each of its {name} must have a code, a message and a fix as text")
 
 
+def scene(value, name: str) -> None:
+    from .brightness import SCENES
+
+    if not isinstance(value, str) or value not in SCENES:
+        raise ResultError(f"its {name} must be one of {', '.join(SCENES)}")
+
+
+def emissivity(value, name: str) -> None:
+    if not isinstance(value, list) or len(value) != 2:
+        raise ResultError(f"its {name} must be a list of two numbers (low, high) or null")
+    for end in value:
+        if isinstance(end, bool) or not isinstance(end, (int, float)) or not 0 < end <= 1:
+            raise ResultError(f"its {name} must hold numbers above 0 and at most 1")
+    if value[0] > value[1]:
+        raise ResultError(f"its {name} must run from low to high")
+
+
+def channels(value, name: str) -> None:
+    if not isinstance(value, list) or not all(isinstance(c, str) and c in CHANNELS for c in value):
+        raise ResultError(f"its {name} must be a list of {' or '.join(CHANNELS)}")
+    if len(set(value)) != len(value):
+        raise ResultError(f"its {name} must name each channel once")
+
+
 def record(value, name: str) -> None:
     if not isinstance(value, dict):
         raise ResultError(f"its {name} must be an object or null")
@@ -103,6 +128,7 @@ RESULT_FIELDS = {
     "pixels_used": count, "pixels_clipped": count, "pixels_dark": count, "pixels_outlier": count,
     "pixels_total": count, "region": region, "colour_space": text, "colour_space_source": text,
     "camera": record, "profile": text, "notice": text,
+    "scene": scene, "emissivity": emissivity, "channels": channels, "channels_text": text,
 }  # fmt: skip
 
 

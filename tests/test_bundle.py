@@ -93,12 +93,49 @@ def test_bundle_restores_the_firing_exactly(log, tmp_path):
         assert len(other.photos.keys()) == 3
 
 
+def test_a_steel_firing_with_a_magnet_reading_comes_back_with_both(log, tmp_path):
+    firing_id = log.create_firing(name="Knife blanks", kind="heat treatment", scene="other", started_at=START)
+    result = {**result_of(770), "scene": "other", "emissivity": [0.2, 1.0], "channels": ["colour", "brightness"],
+              "channels_text": "from brightness: the colour only shows a ceiling at this heat"}  # fmt: skip
+    key = log.store_photo(tiny_jpeg(0.5), ".jpg")
+    log.add_reading(photo_key=key, photo_name="quench.jpg", result=result, taken_at=START + timedelta(hours=0.5),
+                    firing_id=firing_id, magnet="let go")  # fmt: skip
+    with Logbook(tmp_path / "elsewhere") as other:
+        new_id = import_bundle(other, io.BytesIO(bundle_bytes(log, firing_id)))
+        firing, (reading,) = other.get_firing(new_id), other.readings_in(new_id)
+        assert firing["scene"] == "other"  # as chosen, not the "steel" its kind would suggest
+        assert reading["magnet"] == "let go" and reading["result"] == result
+
+
+def version_1_bundle(data: bytes) -> io.BytesIO:
+    """A bundle as glowtemp wrote it before scenes and magnet values: version 1, neither key."""
+    def change(manifest, members):
+        manifest["version"] = 1
+        del manifest["firing"]["scene"]
+        for reading in manifest["readings"]:
+            del reading["magnet"]
+
+    return rebuild(data, change)
+
+
+@pytest.mark.parametrize("kind, scene", [("glaze", "kiln"), ("forging", "steel"), ("other", "other")])
+def test_a_version_1_bundle_imports_with_the_scene_its_kind_suggests(log, tmp_path, kind, scene):
+    firing_id = make_firing(log)
+    log.update_firing(firing_id, kind=kind)
+    with Logbook(tmp_path / "elsewhere") as other:
+        new_id = import_bundle(other, version_1_bundle(bundle_bytes(log, firing_id)))
+        assert other.get_firing(new_id)["scene"] == scene
+        restored = other.readings_in(new_id)
+        assert [r["magnet"] for r in restored] == [None] * 4
+        assert [r["reference_c"] for r in restored] == [r["reference_c"] for r in log.readings_in(firing_id)]
+
+
 def test_bundle_layout(log):
     data = bundle_bytes(log, make_firing(log))
     with zipfile.ZipFile(io.BytesIO(data)) as bundle:
         names = bundle.namelist()
         manifest = json.loads(bundle.read("manifest.json"))
-    assert manifest["format"] == "glowtemp-firing-bundle" and manifest["version"] == 1
+    assert manifest["format"] == "glowtemp-firing-bundle" and manifest["version"] == 2
     assert len(manifest["readings"]) == 4 and len(manifest["photos"]) == 3
     assert sorted(names) == sorted(["manifest.json"] + ["photos/" + key for key in manifest["photos"]])
 
@@ -157,7 +194,11 @@ def absolute_path(manifest, members):
 
 
 def unknown_version(manifest, members):
-    manifest["version"] = 2
+    manifest["version"] = 3
+
+
+def version_as_true(manifest, members):
+    manifest["version"] = True  # equal to 1 in Python, but no version number
 
 
 def other_format(manifest, members):
@@ -255,7 +296,13 @@ def wrong_listed_size(manifest, members):
         (alter_listed_hash, "SHA-256"),
         (traversal, "neither manifest.json nor a photo"),
         (absolute_path, "neither manifest.json nor a photo"),
-        (unknown_version, "format version 2"),
+        (unknown_version, "format version 3"),
+        (version_as_true, "format version True"),
+        (on_firing("scene", "forge"), "scene .what is photographed. must be one of kiln, steel, other"),
+        (on_reading("magnet", "stuck"), "magnet value is 'let go'"),
+        (on_result("scene", "forge"), "scene must be one of kiln, steel, other"),
+        (on_result("emissivity", [0.9, 1.5]), "emissivity must hold numbers above 0 and at most 1"),
+        (on_result("channels", ["colour", "smell"]), "channels must be a list of colour or brightness"),
         (other_format, "does not describe"),
         (bad_kind, "kind of firing"),
         (bad_reading_time, "time the photo was taken"),
@@ -293,6 +340,18 @@ def test_csv_has_units_in_headers_and_one_row_per_reading(log):
     assert rows[0]["warnings"] == "auto-white-balance few-pixels"
     assert rows[0]["photo_sha256"] == hashlib.sha256(tiny_jpeg(1.0)).hexdigest()
     assert rows[2]["cone"] == "06" and rows[2]["cone_state"] == "bent"
+    assert {row["magnet"] for row in rows} == {""}  # none of these readings had a magnet test
+
+
+def test_csv_carries_the_magnet_the_scene_and_the_channels(log):
+    firing_id = log.create_firing(name="Hardening", kind="heat treatment", started_at=START)
+    result = {**result_of(770), "scene": "steel", "emissivity": [0.7, 0.95], "channels": ["colour", "brightness"]}
+    key = log.store_photo(tiny_jpeg(0.5), ".jpg")
+    log.add_reading(photo_key=key, photo_name="bar.jpg", result=result, taken_at=START, firing_id=firing_id,
+                    magnet="let go")  # fmt: skip
+    (row,) = csv.DictReader(io.StringIO(firing_csv(log.get_firing(firing_id), log.readings_in(firing_id))))
+    assert (row["magnet"], row["scene"], row["channels"]) == ("let go", "steel", "colour brightness")
+    assert (row["emissivity_low"], row["emissivity_high"]) == ("0.7", "0.95")
 
 
 def test_csv_defuses_formulas_but_keeps_negative_numbers(log):

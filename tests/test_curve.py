@@ -124,6 +124,14 @@ def test_curve_points_in_time_order_with_cone_heights():
     assert summary["over_last_hours_plus_minus_c_per_h"][2.0] == pytest.approx(2**0.5 * 20 / 1.5)
 
 
+def test_a_magnet_that_let_go_sits_at_iron_s_curie_point():
+    # Iron's Curie point, 770 °C (CRC Handbook of Chemistry and Physics, "Curie temperatures").
+    readings = [{**READINGS[2], "magnet": "let go"}, {**READINGS[0], "magnet": None}]
+    points = curve_points(FIRING, readings, CONES_C)
+    assert [(p.reading_id, p.magnet_c) for p in points] == [(2, 770.0), (3, None)]
+    assert curve_points(FIRING, READINGS, CONES_C)[0].magnet_c is None  # a reading without the key
+
+
 def test_hours_count_from_the_first_photo_when_it_predates_the_start():
     early = {**FIRING, "started_at": "2024-03-01T12:30:00+00:00"}
     points = curve_points(early, READINGS, CONES_C)

@@ -74,3 +74,47 @@ def test_the_band_is_named_in_the_legend_and_absent_without_bands():
     no_bands = [CurvePoint(0, h, t, None, None, None, None, None, None, None) for h, t in ((0.0, 900.0), (1.0, 960.0))]
     assert f'id="{RATE_BAND_GID}"' not in firing_chart_svg(no_bands)
     assert firing_chart_png(POINTS)[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (ISO/IEC 15948)
+
+
+def drawn_marker_heights(svg: str, gid: str) -> list[float]:
+    """The heights, in chart units, of the markers of the line with ``gid``: each marker's y in
+    the SVG mapped through the y tick labels of the panel that holds it."""
+    root = ElementTree.fromstring(svg)
+    panel = next(axes for axes in root.iter(f"{SVG}g") if axes.get("id", "").startswith("axes_")
+                 and any(g.get("id") == gid for g in axes.iter(f"{SVG}g")))  # fmt: skip
+    ticks = []
+    for tick in panel.iter(f"{SVG}g"):
+        if tick.get("id", "").startswith("ytick_"):
+            mark = next(tick.iter(f"{SVG}use"))
+            ticks.append((float(mark.get("y")), _number("".join(next(tick.iter(f"{SVG}text")).itertext()))))
+    (y0, v0), (y1, v1) = ticks[0], ticks[-1]
+    line = next(g for g in panel.iter(f"{SVG}g") if g.get("id") == gid)
+    return [round(v0 + (float(use.get("y")) - y0) * (v1 - v0) / (y1 - y0), 1) for use in line.iter(f"{SVG}use")]
+
+
+@pytest.mark.parametrize("unit, expected", [("C", 770.0), ("F", 1418.0)])
+def test_a_magnet_that_let_go_is_drawn_at_iron_s_curie_point_and_labelled(unit, expected):
+    from glowtemp.curve_chart import MAGNET_GID
+
+    # Iron's Curie point is 770 °C (CRC Handbook of Chemistry and Physics, "Curie temperatures"),
+    # 770 * 9/5 + 32 = 1418 °F (NIST SP 811, B.9). Two readings whose magnet let go, at 1 h and 2 h.
+    points = [point(0.0, 700.0, 20.0), point(1.0, 760.0, 20.0), point(2.0, 790.0, 20.0)]
+    points[1:] = [CurvePoint(p.reading_id, p.hours, p.temperature_c, p.band68_c, p.band95_c, None, None, None, None,
+                             None, magnet_c=770.0) for p in points[1:]]  # fmt: skip
+    svg = firing_chart_svg(points, unit=unit)
+    assert drawn_marker_heights(svg, MAGNET_GID) == pytest.approx([expected, expected], abs=1.0)
+    assert f"magnet let go (about {expected:.0f} °{unit})" in svg  # the legend, in the chart's unit
+    assert svg.count(">magnet let go<") == 1  # the first one labelled beside it
+    assert f'id="{MAGNET_GID}"' not in firing_chart_svg(points[:1])
+
+
+def test_the_horseshoe_marker_is_one_closed_outline_open_at_the_top():
+    from matplotlib.path import Path
+
+    from glowtemp.curve_chart import horseshoe_marker
+
+    marker = horseshoe_marker()
+    assert marker.codes[0] == Path.MOVETO and marker.codes[-1] == Path.CLOSEPOLY
+    assert list(marker.codes[1:-1]) == [Path.LINETO] * (len(marker.codes) - 2)
+    # Open at the top: the point between the arms, (0, 0.9), lies outside; an arm, (-0.7, 0.5), inside.
+    assert not marker.contains_point((0.0, 0.9)) and marker.contains_point((-0.7, 0.5))

@@ -101,6 +101,9 @@ def test_firing_round_trip_and_edits(log):
         {"started_at": "yesterday"},
         {"colour": "red"},
         {"status": "paused"},
+        {"scene": "forge"},
+        {"scene": None},
+        {"scene": ["kiln"]},
     ],
 )
 def test_bad_firing_fields_are_refused_and_change_nothing(log, change):
@@ -114,6 +117,25 @@ def test_bad_firing_fields_are_refused_and_change_nothing(log, change):
 def test_all_kinds_of_work_are_accepted(log):
     for kind in ("bisque", "glaze", "glass", "forging", "heat treatment", "other"):
         assert log.get_firing(log.create_firing(name=kind, kind=kind))["kind"] == kind
+
+
+@pytest.mark.parametrize("kind, scene", [("bisque", "kiln"), ("glaze", "kiln"), ("glass", "kiln"),
+                                         ("forging", "steel"), ("heat treatment", "steel"), ("other", "other")])  # fmt: skip
+def test_a_firing_s_scene_follows_its_kind_unless_chosen_and_is_remembered(log, kind, scene):
+    # A kiln's inside through a spy hole, hot steel at the forge (common practice).
+    assert log.get_firing(log.create_firing(name="by kind", kind=kind))["scene"] == scene
+    chosen = log.create_firing(name="chosen", kind=kind, scene="other" if scene != "other" else "kiln")
+    kept = log.update_firing(chosen, kind="glaze", name="renamed")
+    assert kept["scene"] == ("other" if scene != "other" else "kiln")
+    assert log.update_firing(chosen, scene="steel")["scene"] == "steel"
+
+
+def test_a_magnet_that_let_go_is_kept_and_can_be_cleared(log):
+    firing_id = log.create_firing(name="Hardening", kind="heat treatment")
+    reading_id = add(log, firing_id, 1, 780, magnet=" Let go ")
+    assert log.get_reading(reading_id)["magnet"] == "let go"
+    assert log.update_reading(reading_id, magnet=None)["magnet"] is None
+    assert log.update_reading(reading_id, magnet="let go", reference_c=772)["magnet"] == "let go"
 
 
 def test_reading_round_trip(log):
@@ -154,6 +176,9 @@ def test_reading_needs_its_photo_stored_first(log):
         {"cone_state": "bent"},
         {"firing_id": 999},
         {"taken_at": 5},
+        {"magnet": "stuck"},
+        {"magnet": True},
+        {"magnet": "yes"},  # the pairs CSV's shorthand; the log keeps the one plain value
     ],
 )
 def test_bad_trusted_values_are_refused_and_store_nothing(log, trusted):

@@ -162,3 +162,74 @@ def test_a_reading_pointing_at_a_missing_firing_stops_the_migration_unchanged(tm
     assert database.execute("SELECT MAX(version) FROM schema_version").fetchone() == (3,)
     assert database.execute("SELECT COUNT(*) FROM readings").fetchone() == (2,)
     database.close()
+
+
+# Version 4 as it was released, frozen here too: firings without a scene, readings without a
+# magnet value.
+VERSION_4_SQL = """
+CREATE TABLE schema_version (version INTEGER PRIMARY KEY, applied_at TEXT NOT NULL);
+INSERT INTO schema_version VALUES (1, '2024-01-01T00:00:00+00:00'), (2, '2024-02-01T00:00:00+00:00'),
+    (3, '2024-03-01T00:00:00+00:00'), (4, '2024-04-01T00:00:00+00:00');
+CREATE TABLE firings (
+    id INTEGER PRIMARY KEY AUTOINCREMENT, name TEXT NOT NULL, kiln TEXT, kind TEXT NOT NULL, target_c REAL,
+    target_cone TEXT, started_at TEXT NOT NULL, notes TEXT, status TEXT NOT NULL DEFAULT 'open',
+    closed_at TEXT, created_at TEXT NOT NULL
+);
+CREATE TABLE readings (
+    id INTEGER PRIMARY KEY AUTOINCREMENT, firing_id INTEGER REFERENCES firings(id), photo_key TEXT NOT NULL,
+    photo_name TEXT NOT NULL, taken_at TEXT NOT NULL, result_json TEXT NOT NULL, reference_c REAL,
+    cone TEXT, cone_state TEXT, note TEXT, created_at TEXT NOT NULL, status TEXT, temperature_c REAL,
+    band68_low_c REAL, band68_high_c REAL, band95_low_c REAL, band95_high_c REAL, upper_bound_c REAL,
+    region_text TEXT, profile TEXT, upload_id TEXT
+);
+CREATE INDEX readings_by_firing ON readings (firing_id, taken_at);
+CREATE INDEX readings_by_photo ON readings (photo_key);
+CREATE UNIQUE INDEX readings_by_upload ON readings (upload_id);
+CREATE TABLE sessions (id INTEGER PRIMARY KEY, secret_sha256 TEXT NOT NULL UNIQUE, paired_at TEXT NOT NULL,
+    paired_from TEXT);
+"""
+KINDS_AND_SCENES = [("bisque", "kiln"), ("glaze", "kiln"), ("glass", "kiln"), ("forging", "steel"),
+                    ("heat treatment", "steel"), ("other", "other")]  # fmt: skip
+
+
+def test_version_5_gives_each_firing_the_scene_of_its_kind_and_keeps_every_row(tmp_path):
+    key = "ef" * 32 + ".jpg"
+    (tmp_path / "photos").mkdir()
+    (tmp_path / "photos" / key).write_bytes(b"old photo")
+    result = {"status": "ok", "temperature_c": 800, "interval_68_c": [790, 810], "interval_95_c": [780, 820],
+              "upper_bound_c": None, "region": {"kind": "rectangle", "text": "1,2,3,4"}, "profile": None}  # fmt: skip
+    database = sqlite3.connect(tmp_path / "glowtemp.sqlite3")
+    database.executescript(VERSION_4_SQL)
+    for number, (kind, _) in enumerate(KINDS_AND_SCENES, start=1):
+        database.execute(
+            "INSERT INTO firings (id, name, kind, started_at, status, created_at) "
+            "VALUES (?, ?, ?, '2024-04-02T08:00:00+00:00', 'open', '2024-04-02T08:00:00+00:00')",
+            (number, f"Old {kind}", kind),
+        )
+        database.execute(
+            "INSERT INTO readings (id, firing_id, photo_key, photo_name, taken_at, result_json, reference_c, cone, "
+            "cone_state, note, created_at, status, temperature_c, upload_id) VALUES (?, ?, ?, 'spy.jpg', "
+            "'2024-04-02T09:00:00+00:00', ?, 812.5, '014', 'bent', 'kept', '2024-04-02T09:00:05+00:00', 'ok', 800, ?)",
+            (number, number, key, json.dumps(result), f"upload-id-number-{number:04d}"),
+        )
+    database.commit()
+    database.close()
+
+    with Logbook(tmp_path) as log:
+        for number, (kind, scene) in enumerate(KINDS_AND_SCENES, start=1):
+            firing = log.get_firing(number)
+            assert (firing["name"], firing["kind"], firing["scene"], firing["reading_count"]) == (f"Old {kind}", kind, scene, 1)
+            (reading,) = log.readings_in(number)
+            assert reading["result"] == result and reading["magnet"] is None
+            assert (reading["reference_c"], reading["cone"], reading["cone_state"], reading["note"]) == (812.5, "014", "bent", "kept")
+            assert reading["upload_id"] == f"upload-id-number-{number:04d}"
+        # New firings: the kind's scene unless one is chosen, and a chosen one is kept when the kind changes.
+        assert log.get_firing(log.create_firing(name="New forging", kind="forging"))["scene"] == "steel"
+        chosen = log.create_firing(name="Enamel on steel", kind="glaze", scene="steel")
+        assert log.update_firing(chosen, kind="other")["scene"] == "steel"
+        assert log.create_firing(name="After") == len(KINDS_AND_SCENES) + 3  # ids still never reused
+
+    database = sqlite3.connect(tmp_path / "glowtemp.sqlite3")
+    versions = [row[0] for row in database.execute("SELECT version FROM schema_version ORDER BY version")]
+    database.close()
+    assert versions == [1, 2, 3, 4, 5] == list(range(1, CURRENT_VERSION + 1))
