@@ -131,7 +131,7 @@ def _figure(points, target_c, target_label, unit: str, title: str | None, size_i
     hours, estimates_c = estimate_series(points)
     if hours:
         heat.plot(hours, [convert(t) for t in estimates_c], color=ESTIMATE_COLOUR, marker="o", markersize=3,
-                  linewidth=1.6, label="estimate from colour")  # fmt: skip
+                  linewidth=1.6, label="estimate")  # fmt: skip
     ceilings = [p for p in points if p.temperature_c is None and p.upper_bound_c is not None]
     if ceilings:
         heat.plot([p.hours for p in ceilings], [convert(p.upper_bound_c) for p in ceilings], linestyle="none",

@@ -154,7 +154,7 @@ def test_svg_chart_carries_curve_legend_cones_and_units():
     svg = firing_chart_svg(points, 1222.0, "target cone 6 (approximate)")
     assert svg.startswith("<svg")
     texts = svg_texts(svg)
-    for label in ("estimate from colour", "95 % band", "68 % band", "thermocouple", "cone 06", "cone 6",
+    for label in ("estimate", "95 % band", "68 % band", "thermocouple", "cone 06", "cone 6",
                   "target cone 6 (approximate)", "temperature (°C)", "climb (°C/h)"):  # fmt: skip
         assert label in texts, label
     fahrenheit = svg_texts(firing_chart_svg(points, 1222.0, None, unit="F"))

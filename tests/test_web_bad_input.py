@@ -95,6 +95,13 @@ CASES = [
     Case("thermocouple value of infinity", 400, "between", fields={"reference_c": "inf"}, into_firing=True),
     Case("a cone not in the table", 400, "cone table", fields={"cone": "99"}, into_firing=True),
     Case("time that is not a time", 400, "date and time", fields={"taken_at": "noon"}, into_firing=True),
+    # What is photographed, and the magnet test
+    Case("unknown scene", 400, "one of kiln, steel, other", fields={"scene": "volcano"}),
+    Case("scene in another case", 400, "one of kiln, steel, other", fields={"scene": "Kiln"}),
+    Case("unknown scene into a firing", 400, "one of kiln, steel, other", fields={"scene": "forge"}, into_firing=True),
+    Case("scene of 10 KB", 400, "one of kiln, steel, other", fields={"scene": "s" * (10 * KB)}),
+    Case("magnet with a bad value", 400, "'let go'", fields={"magnet": "stuck fast"}, into_firing=True),
+    Case("magnet as a number", 400, "'let go'", fields={"magnet": "770"}, into_firing=True),
     # Sending again (the page's send queue)
     Case("upload id of SQL", 400, "upload id", fields={"upload_id": "x'; DROP TABLE readings; --"}),
     Case("upload id of 10 KB", 400, "upload id", fields={"upload_id": "a" * (10 * KB)}),
@@ -151,6 +158,8 @@ def test_bad_upload_is_refused_plainly_and_stores_nothing(web_app, web_client, f
         ("JSON body that is a list", "post", "/api/firings", [1, 2], 400, "json object"),
         ("JSON body of 300 KB", "post", "/api/firings", {"name": "x", "notes": "n" * (300 * KB)}, 413, "body"),
         ("target of 10000 °C", "post", "/api/firings", {"name": "x", "target_c": 10000}, 400, "between"),
+        ("firing of an unknown scene", "post", "/api/firings", {"name": "x", "scene": "lava"}, 400, "kiln, steel, other"),
+        ("firing with a scene that is a list", "post", "/api/firings", {"name": "x", "scene": ["kiln"]}, 400, "kiln, steel, other"),
     ],
 )
 def test_bad_request_elsewhere_is_refused_plainly(web_app, web_client, name, method, url, body, status, words):
@@ -345,6 +354,15 @@ JSON_CASES = [
     ("true as a temperature in °F", "post", "/api/firings", '{"name": "x", "target_f": true}', "number of °F"),
     ("not UTF-8", "post", "/api/firings", b'{"name": "\xff\xfe"}', "utf-8"),
     ("a region as 50,000 nested [", "post", "/api/readings/{rid}/region", "[" * 50_000, "nests"),
+    ("PATCH with an unknown scene", "patch", "/api/firings/{id}", '{"scene": "forge"}', "kiln, steel, other"),
+    ("PATCH with a scene of null", "patch", "/api/firings/{id}", '{"scene": null}', "kiln, steel, other"),
+    ("PATCH with an empty scene", "patch", "/api/firings/{id}", '{"scene": ""}', "kiln, steel, other"),
+    ("magnet with a bad value", "patch", "/api/firings/{id}/readings/{rid}", '{"magnet": "stuck"}', "let go"),
+    ("magnet as true", "patch", "/api/firings/{id}/readings/{rid}", '{"magnet": true}', "let go"),
+    ("magnet as a list", "patch", "/api/firings/{id}/readings/{rid}", '{"magnet": ["let go"]}', "let go"),
+    ("re-measure with an unknown scene", "post", "/api/readings/{rid}/region", '{"region": "10,10,50,50", "scene": "x"}',
+     "kiln, steel, other"),
+    ("map with an unknown scene", "post", "/api/readings/{rid}/map", '{"scene": "lava"}', "kiln, steel, other"),
 ]
 
 

@@ -57,6 +57,7 @@ def create_app(config: dict | None = None) -> Flask:
     from .decode_gate import DecodeGate
     from .pairing import PairingCodes
     from .photo_cache import PhotoCache
+    from .scenes import SCENE_WORDS, emissivity_text
 
     logbook = Logbook(app.config["DATA_DIR"])
     app.extensions["glowtemp"] = {
@@ -77,8 +78,8 @@ def create_app(config: dict | None = None) -> Flask:
     headers.register(app)
 
     @app.context_processor
-    def navigation():
-        return {"nav_links": nav_links}
+    def shared_words():
+        return {"nav_links": nav_links, "scene_words": SCENE_WORDS, "emissivity_text": emissivity_text}
 
     return app
 

@@ -2,14 +2,18 @@
 
 - ``POST /api/readings``: multipart ``photo`` (a JPEG, PNG, TIFF, HEIC or DNG file), optional ``region``
   (``X,Y,W,H`` or ``circle:CX,CY,R``) or ``circle`` (``CX,CY,R``), optional ``profile`` (a
-  stored camera profile's name). Measures, stores the photo and the reading in the firing
+  stored camera profile's name), optional ``scene`` (what is photographed: ``kiln``, a kiln's
+  inside through a spy hole; ``steel``, hot oxidised steel; ``other``, the default: the
+  emissivity prior of the brightness channel; any other value answers 400 naming these).
+  Measures, stores the photo and the reading in the firing
   log, answers 201 with the reading's JSON form (as ``glowtemp measure --json``) plus ``id``,
   ``image`` {width, height} and ``preview_url``. Optional ``upload_id`` (made by the page once
   per photo): sent again, it answers 200 with the reading already stored, never a second one;
   optional ``captured_at`` (ISO 8601): when the page got the photo, the time taken when the
   photo carries no EXIF time (:mod:`glowtemp.web.uploads`).
 - ``POST /api/readings/<id>/region``: the same fields as JSON or a form, without ``photo``;
-  measures the stored photo again and replaces the stored result.
+  measures the stored photo again and replaces the stored result. Without ``scene`` it is
+  measured as the scene its stored result names (else its firing's).
 - ``GET /api/readings/<id>/preview``: the stored photo, upright, reduced and in sRGB, as a JPEG
   (a raw photo brought to a display brightness: :mod:`glowtemp.web.preview`).
 - ``GET /api/scale``: blackbody colours along a temperature scale, for painting.
@@ -29,7 +33,7 @@ from flask import Blueprint, current_app, jsonify, request, send_file, url_for
 from .access import TOKEN_FIELD
 from .errors import ApiError
 from .json_body import json_object
-from .uploads import measure_photo, profile_from, region_from, stored_photo, take_upload
+from .uploads import measure_photo, profile_from, region_from, scene_from, stored_photo, stored_scene, take_upload
 
 blueprint = Blueprint("api", __name__, url_prefix="/api")
 
@@ -71,11 +75,17 @@ def create_reading():
                           upload_id=fields.get("upload_id") or None)  # fmt: skip
 
 
-def stored_reading(reading_id: int):
-    """The stored reading and its decoded photo; 404 when there is no such reading."""
+def stored_record(reading_id: int) -> dict:
+    """The stored reading; 404 when there is no such reading."""
     stored = _services()["logbook"].get_reading(reading_id)
     if stored is None:
         raise ApiError(f"There is no reading number {reading_id}.", 404)
+    return stored
+
+
+def stored_reading(reading_id: int):
+    """The stored reading and its decoded photo; 404 when there is no such reading."""
+    stored = stored_record(reading_id)
     return stored, stored_photo(stored["photo_key"])
 
 
@@ -85,8 +95,10 @@ def measure_region(reading_id: int):
     region, profile = region_from(fields), profile_from(fields)
     if region is None:
         raise ApiError("Send the new region as 'region' (X,Y,W,H or circle:CX,CY,R) or 'circle' (CX,CY,R).")
-    stored, photo = stored_reading(reading_id)
-    result = measure_photo(photo, region, profile, stored["photo_name"])
+    stored = stored_record(reading_id)
+    scene = scene_from(fields, stored_scene(stored))
+    photo = stored_photo(stored["photo_key"])
+    result = measure_photo(photo, region, profile, stored["photo_name"], scene)
     _services()["logbook"].update_reading_result(reading_id, result)
     return reading_answer(result, reading_id, photo, 200)
 

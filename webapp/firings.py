@@ -14,11 +14,17 @@ JSON API:
 - ``GET /api/firings``, ``POST /api/firings`` (JSON or form fields of a firing).
 - ``GET /api/firings/<id>`` (the firing, its readings and climb rates), ``PATCH`` (JSON of the
   fields to change), ``DELETE``.
+- A firing's ``scene`` (``kiln``, ``steel`` or ``other``: what its photos show, the brightness
+  channel's emissivity prior) is sent on ``POST`` and ``PATCH`` like its other fields; a new
+  firing without one gets the scene its kind suggests (kilns: ``kiln``; forging and heat
+  treatment: ``steel``), and a changed kind keeps the scene. An unknown scene answers 400.
 - ``POST /api/firings/<id>/readings``: multipart as ``POST /api/readings`` (``photo``, optional
-  ``region``/``circle``, ``profile``) plus ``reference_c`` (or ``reference_f``), ``cone``,
-  ``cone_state``, ``note``, ``taken_at``, and ``upload_id``/``captured_at`` as there (a retried
-  upload id answers 200 with the reading already stored); ``PATCH /api/firings/<id>/readings/<rid>`` edits
-  trusted values.
+  ``region``/``circle``, ``profile``, ``scene``, by default the firing's) plus ``reference_c``
+  (or ``reference_f``), ``cone``, ``cone_state``, ``magnet`` (``let go``: plain carbon steel
+  stopped attracting a magnet, about 770 °C), ``note``, ``taken_at``, and
+  ``upload_id``/``captured_at`` as there (a retried upload id answers 200 with the reading
+  already stored); ``PATCH /api/firings/<id>/readings/<rid>`` edits trusted values (``magnet``
+  null clears it).
 - ``GET /api/firings/<id>/export.csv`` and ``export.zip``.
 
 Errors answer in plain words (JSON under /api/); nothing is stored when a request fails.
@@ -78,8 +84,8 @@ def _fields() -> dict:
     return {key: value for key, value in request.form.items() if value.strip() and key != TOKEN_FIELD}
 
 
-FIRING_FIELDS = ("name", "kiln", "kind", "target_c", "target_cone", "started_at", "notes", "status")
-TRUSTED_FIELDS = ("reference_c", "reference_f", "cone", "cone_state", "note", "taken_at")
+FIRING_FIELDS = ("name", "kiln", "kind", "scene", "target_c", "target_cone", "started_at", "notes", "status")
+TRUSTED_FIELDS = ("reference_c", "reference_f", "cone", "cone_state", "magnet", "note", "taken_at")
 
 
 def _firing_fields(fields: dict, every_field: bool) -> dict:
@@ -88,7 +94,7 @@ def _firing_fields(fields: dict, every_field: bool) -> dict:
         fields = {**fields, "target_c": _celsius_from_f(fields["target_f"], "target temperature")}
     chosen = {name: fields.get(name) for name in FIRING_FIELDS if name in fields or every_field}
     if every_field:
-        needed = ("name", "kind", "status", "started_at")  # a blank box here means "leave as it is"
+        needed = ("name", "kind", "scene", "status", "started_at")  # a blank box here means "leave as it is"
         chosen = {name: value for name, value in chosen.items() if name not in needed or value}
     return chosen
 
@@ -106,8 +112,9 @@ def _celsius_from_f(value, what: str) -> float:
 
 
 def _trusted_fields(fields: dict) -> dict:
-    """Trusted values of a request: reference_c or reference_f, cone, cone_state, note, taken_at."""
-    trusted = {name: fields[name] for name in ("reference_c", "cone", "cone_state", "note", "taken_at") if name in fields}
+    """Trusted values of a request: reference_c or reference_f, cone, cone_state, magnet, note, taken_at."""
+    names = ("reference_c", "cone", "cone_state", "magnet", "note", "taken_at")
+    trusted = {name: fields[name] for name in names if name in fields}
     if fields.get("reference_f") not in (None, ""):
         if "reference_c" in fields:
             raise ApiError("Send the thermocouple reading in °C or in °F, not both.")
@@ -147,6 +154,7 @@ def _reading_json(reading: dict) -> dict:
         "reference_c": reading["reference_c"],
         "cone": reading["cone"],
         "cone_state": reading["cone_state"],
+        "magnet": reading["magnet"],
         "note": reading["note"],
         "upload_id": reading["upload_id"],
         "preview_url": url_for("api.preview", reading_id=reading["id"]),
@@ -200,8 +208,9 @@ def firing_page(firing_id: int):
     from glowtemp.curve_chart import firing_chart_svg
     from glowtemp.curve import firing_target_c
     from glowtemp.cones import cone_table
-    from glowtemp.logbook_fields import CONE_STATES, FIRING_KINDS
+    from glowtemp.logbook_fields import CONE_STATES, FIRING_KINDS, MAGNET_LET_GO
     from glowtemp.logbook_pairs import calibration_pairs
+    from glowtemp.profile import CURIE_POINT_IRON_C
 
     firing = _firing(firing_id)
     readings = _log().readings_in(firing_id)
@@ -224,6 +233,8 @@ def firing_page(firing_id: int):
         unit=unit,
         kinds=FIRING_KINDS,
         cone_states=CONE_STATES,
+        magnet_let_go=MAGNET_LET_GO,
+        curie_c=CURIE_POINT_IRON_C,
         profiles=_profiles(),
         pair_count=len(calibration_pairs(readings)),
     )
@@ -248,7 +259,7 @@ def edit_reading_page(firing_id: int, reading_id: int):
     form = _page_reference({k: v.strip() for k, v in request.form.items()})
     trusted = _trusted_fields(form)
     trusted.setdefault("reference_c", None)  # an emptied box clears the value
-    for name in ("cone", "cone_state", "note"):
+    for name in ("cone", "cone_state", "magnet", "note"):  # an unticked magnet box clears it
         trusted[name] = form.get(name) or None
     if not form.get("taken_at"):
         trusted.pop("taken_at", None)

@@ -1,8 +1,9 @@
 """Temperature maps of a stored reading: where in the measured area the glow is hotter.
 
 - ``POST /api/readings/<id>/map``: optional ``region`` (``X,Y,W,H`` or ``circle:CX,CY,R``) or
-  ``circle``, and ``profile``, as JSON or a form (the same fields as ``/region``). Measures the
-  stored photo again in that region (the stored reading's region when none is sent) and cuts
+  ``circle``, ``profile`` and ``scene``, as JSON or a form (the same fields as ``/region``).
+  Measures the stored photo again in that region (the stored reading's region when none is
+  sent) as that scene (the stored reading's scene when none is sent) and cuts
   the region into tiles, each measured on its own with its own band
   (:func:`glowtemp.tilemap.temperature_map`). The reading is stored with its map under
   ``temperature_map`` and answered with ``id``, ``image``, ``preview_url`` and ``map_url``.
@@ -10,7 +11,7 @@
   legend in °C or °F (:func:`glowtemp.tilemap_chart.draw_map`), an SVG image whose styles are
   presentation attributes (:mod:`.inline_svg`), so it holds nothing the page's
   Content-Security-Policy refuses. The tiles are measured again from the stored map's region
-  and the reading's profile and must give the stored numbers; otherwise (the profile was
+  and the reading's profile and scene and must give the stored numbers; otherwise (the profile was
   fitted again since) it answers 409 and asks for a new map.
 
 Moving the region or changing the profile (``/region``) stores a reading without a map, since
@@ -23,22 +24,22 @@ from dataclasses import replace
 
 from flask import Blueprint, Response, current_app, request, url_for
 
-from .api import reading_answer, request_fields, stored_reading
+from .api import reading_answer, request_fields, stored_reading, stored_record
 from .errors import ApiError
-from .uploads import measure_reading, profile_from, region_from
+from .uploads import measure_reading, profile_from, region_from, scene_from, stored_photo, stored_scene
 
 blueprint = Blueprint("maps", __name__, url_prefix="/api")
 
 UNITS = ("C", "F")
 
 
-def _tile_map(photo, region, profile):
+def _tile_map(photo, region, profile, scene: str):
     """The map of ``region``, each tile measured as :func:`glowtemp.reading.measure` would."""
     from glowtemp.region import RegionError
     from glowtemp.tilemap import temperature_map
 
     try:
-        return temperature_map(photo, region, profile=profile)
+        return temperature_map(photo, region, profile=profile, scene=scene)
     except RegionError as error:
         raise ApiError(str(error)) from None
 
@@ -55,13 +56,15 @@ def make_map(reading_id: int):
 
     fields = request_fields()
     region, profile = region_from(fields), profile_from(fields)
-    stored, photo = stored_reading(reading_id)
+    stored = stored_record(reading_id)
+    scene = scene_from(fields, stored_scene(stored))
+    photo = stored_photo(stored["photo_key"])
     kept = stored["result"]["region"]
     region = region or _stored_region(stored["result"])
-    reading = measure_reading(photo, region, profile, stored["photo_name"])
+    reading = measure_reading(photo, region, profile, stored["photo_name"], scene)
     if kept["found"] and region.to_text() == kept["text"]:
         reading = replace(reading, region_found=True)  # still the area the glow finder chose
-    result = with_map(reading, _tile_map(photo, reading.region, profile)).to_dict()
+    result = with_map(reading, _tile_map(photo, reading.region, profile, scene)).to_dict()
     current_app.extensions["glowtemp"]["logbook"].update_reading_result(reading_id, result)
     return reading_answer(result, reading_id, photo, 200, map_url=url_for("maps.picture", reading_id=reading_id))
 
@@ -86,7 +89,7 @@ def picture(reading_id: int):
         raise ApiError(f"Reading {reading_id} has no temperature map yet; make one first with POST "
                        f"/api/readings/{reading_id}/map.", 404)  # fmt: skip
     profile = profile_from({"profile": stored["result"].get("profile") or ""})
-    tile_map = _tile_map(photo, _stored_region(record), profile)
+    tile_map = _tile_map(photo, _stored_region(record), profile, stored_scene(stored))
     if _tile_numbers(tile_map.to_dict()) != _tile_numbers(record):
         raise ApiError(f"The temperature map of reading {reading_id} no longer matches its camera profile, "
                        "which has changed since; make the map again.", 409)  # fmt: skip

@@ -3,7 +3,7 @@
 Every upload goes through :func:`take_upload`: the measuring page's ``POST /api/readings`` and a
 firing's readings (its page form and ``POST /api/firings/<id>/readings``).
 
-- The cheap checks come first (region, camera profile, trusted values), then the photo is
+- The cheap checks come first (region, camera profile, scene, trusted values), then the photo is
   decoded. Its type is decided by its content (:func:`glowtemp.photo.load_photo`), its size is
   bounded by ``MAX_CONTENT_LENGTH`` (413, before any of it is read into the app) and its pixel
   count by ``MAX_PHOTO_PIXELS`` (422, from the header, before any pixel is decoded). Decodes
@@ -20,6 +20,9 @@ firing's readings (its page form and ``POST /api/firings/<id>/readings``).
 - The time a reading was taken: a trusted ``taken_at`` sent with it, else the photo's EXIF
   DateTimeOriginal, else ``captured_at`` (when the page got the photo, sent with a photo that
   waited to be sent), else the moment it arrives.
+- The scene (what is photographed: ``kiln``, ``steel`` or ``other``, the brightness channel's
+  emissivity prior, :data:`glowtemp.brightness.SCENES`): a ``scene`` sent with it, else the
+  firing's scene, else ``other``.
 """
 
 from __future__ import annotations
@@ -83,6 +86,33 @@ def profile_from(fields: dict):
         return load_profile(current_app.config["DATA_DIR"], name)
     except ProfileError as error:
         raise ApiError(str(error)) from None
+
+
+def scene_from(fields: dict, default: str) -> str:
+    """The ``scene`` asked for, or ``default`` when none is sent; an unknown one answers 400
+    naming the allowed scenes."""
+    from glowtemp.logbook_fields import LogbookError, scene
+
+    value = _text(fields, "scene")
+    if not value:
+        return default
+    try:
+        return scene(value)
+    except LogbookError as error:
+        raise ApiError(str(error)) from None
+
+
+def stored_scene(stored: dict) -> str:
+    """The scene a stored reading was measured as: its result's, else its firing's (a reading
+    measured before results carried one), else ``other``."""
+    from glowtemp.brightness import DEFAULT_SCENE
+
+    kept = stored["result"].get("scene")
+    if kept:
+        return kept
+    if stored["firing_id"] is None:
+        return DEFAULT_SCENE
+    return current_app.extensions["glowtemp"]["logbook"].get_firing(stored["firing_id"])["scene"]
 
 
 def upload_id_from(fields: dict) -> str | None:
@@ -157,22 +187,22 @@ def decode(data: bytes):
         raise ApiError(str(error), 422) from None
 
 
-def measure_reading(photo, region, profile, photo_name: str):
+def measure_reading(photo, region, profile, photo_name: str, scene: str):
     """The :class:`glowtemp.reading.Reading`; when the glow finder finds nothing, 422 asks for a drawn region."""
     from glowtemp.reading import measure
     from glowtemp.region import RegionError
 
     try:
-        return measure(photo, region, photo_name=photo_name, profile=profile)
+        return measure(photo, region, photo_name=photo_name, profile=profile, scene=scene)
     except RegionError as error:
         if region is None:
             raise ApiError(str(error), 422, draw_region=True) from None
         raise ApiError(str(error)) from None
 
 
-def measure_photo(photo, region, profile, photo_name: str) -> dict:
+def measure_photo(photo, region, profile, photo_name: str, scene: str) -> dict:
     """The reading's JSON form (see :func:`measure_reading`)."""
-    return measure_reading(photo, region, profile, photo_name).to_dict()
+    return measure_reading(photo, region, profile, photo_name, scene).to_dict()
 
 
 def stored_name(data: bytes, photo) -> str:
@@ -187,10 +217,12 @@ def stored_name(data: bytes, photo) -> str:
 def take_upload(fields: dict, firing_id: int | None = None, trusted: dict | None = None) -> Taken:
     """Measure the request's photo and store it with its reading (and trusted values, in a firing).
 
-    ``fields`` are the request's text fields (region, circle, profile, upload_id, captured_at);
-    ``trusted`` are already gathered trusted values (reference_c, cone, cone_state, note,
-    taken_at). Raises :class:`ApiError` with nothing stored when any part is refused.
+    ``fields`` are the request's text fields (region, circle, profile, scene, upload_id,
+    captured_at); ``trusted`` are already gathered trusted values (reference_c, cone,
+    cone_state, magnet, note, taken_at). The photo is measured as the ``scene`` sent, else as
+    the firing's scene. Raises :class:`ApiError` with nothing stored when any part is refused.
     """
+    from glowtemp.brightness import DEFAULT_SCENE
     from glowtemp.logbook import LogbookError, UploadConflict
     from glowtemp.photo import STORED_SUFFIXES, decoded_bytes
 
@@ -201,11 +233,13 @@ def take_upload(fields: dict, firing_id: int | None = None, trusted: dict | None
         return again
     region, profile = region_from(fields), profile_from(fields)
     services = current_app.extensions["glowtemp"]
+    log = services["logbook"]
+    firing = log.get_firing(firing_id) if firing_id is not None else None
+    scene = scene_from(fields, firing["scene"] if firing else DEFAULT_SCENE)
     with services["decodes"].admit(decoded_bytes(data)):  # see glowtemp.web.decode_gate
         photo = decode(data)
         name = stored_name(data, photo)
-        result = measure_photo(photo, region, profile, name)
-    log = services["logbook"]
+        result = measure_photo(photo, region, profile, name, scene)
     trusted = dict(trusted or {})
     trusted.setdefault("taken_at", photo.metadata.taken_at or captured_at or datetime.now(timezone.utc))
     try:

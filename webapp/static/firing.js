@@ -23,10 +23,11 @@ function say(text) {
   status.hidden = !text;
 }
 
-// The trusted values as the API takes them (reference_c or reference_f, cone, cone_state, note).
+// The trusted values as the API takes them (reference_c or reference_f, cone, cone_state, magnet, note).
 function trustedValues() {
   const value = (name) => (form.elements[name] ? form.elements[name].value.trim() : "");
-  const trusted = { cone: value("cone"), cone_state: value("cone_state"), note: value("note") };
+  const magnet = form.elements.magnet && form.elements.magnet.checked ? form.elements.magnet.value : "";
+  const trusted = { cone: value("cone"), cone_state: value("cone_state"), magnet, note: value("note") };
   if (value("reference")) trusted[value("reference_unit") === "f" ? "reference_f" : "reference_c"] = value("reference");
   return trusted;
 }
@@ -34,6 +35,7 @@ function trustedValues() {
 function clearForm() {
   for (const input of inputs) input.value = "";
   for (const name of ["reference", "cone", "cone_state", "note"]) if (form.elements[name]) form.elements[name].value = "";
+  if (form.elements.magnet) form.elements.magnet.checked = false;
   $("chosen-photo").textContent = "No photo chosen yet.";
 }
 
@@ -69,7 +71,7 @@ async function sendReadings(event) {
   const trusted = trustedValues();
   if (!files.length) { $("chosen-photo").textContent = "Take or choose a photo first."; return; }
   if (files.length > 1 && Object.values(trusted).some((v) => v)) {
-    say(`Thermocouple, cone and note belong to one photo: choose one photo to add them, or empty those boxes to add the ${files.length} photos at their own times.`);
+    say(`Thermocouple, cone, magnet and note belong to one photo: choose one photo to add them, or empty those boxes to add the ${files.length} photos at their own times.`);
     return;
   }
   submit.disabled = true;

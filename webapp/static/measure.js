@@ -13,6 +13,8 @@ const FORM_TOKEN = document.querySelector('meta[name="csrf-token"]')?.content ||
 const TOKEN_HEADERS = FORM_TOKEN ? { "X-CSRF-Token": FORM_TOKEN } : {};
 const UNIT_KEY = "glowtemp.unit";
 const PROFILE_KEY = "glowtemp.profile";
+const SCENE_KEY = "glowtemp.scene";
+const SCENE_CHOICES = [...document.querySelectorAll("[data-scene-choice]")];
 
 const state = {
   unit: remembered(UNIT_KEY, "c") === "f" ? "f" : "c",
@@ -21,6 +23,7 @@ const state = {
   photoUrl: null,
   scale: null,
   profile: "",       // the chosen camera profile's name; "" for none
+  scene: "other",    // what new photos show (kiln, steel, other): the brightness channel's emissivity
   sequence: 0,       // answers to older region requests are dropped
   watching: null,    // the upload id of the photo this page is sending and waiting for
   sentMeanwhile: null,  // {photo, body} of a waiting photo sent while another reading was shown
@@ -69,7 +72,8 @@ async function upload(file, regionText) {
   showProgress("Keeping the photo on this device…", null);
   let entry;
   try {
-    entry = await keepPhoto(file, { region: regionText || "", profile: state.profile });
+    entry = await keepPhoto(file, { region: regionText || "", profile: state.profile, scene: state.scene,
+                                    sceneLabel: sceneLabel(state.scene) });
   } catch (error) {
     showProgress(null);
     showProblem(`This browser could not read the photo (${error.message}); take or choose it again.`);
@@ -145,6 +149,7 @@ function offerDrawing(file) {
 
 function showResult(reading) {
   state.reading = reading;
+  $("scene-after").value = reading.scene || state.scene;  // what this reading was measured as
   clearMap();
   editor.setRegion(reading.region);
   choosePhotoKind(reading.region.kind);
@@ -159,12 +164,12 @@ function showResult(reading) {
 async function remeasure(regionText) {
   if (!state.reading) return;  // no stored photo yet: the "Measure this area" button sends it
   const sequence = ++state.sequence;
-  if (mapOnShow()) clearMap("The area or the camera profile changed: map it again to see its spots.");
+  if (mapOnShow()) clearMap("The area, the camera profile or the scene changed: map it again to see its spots.");
   $("region-status").textContent = "Measuring this area…";
   const response = await fetch(`/api/readings/${state.reading.id}/region`, {
     method: "POST",
     headers: { "Content-Type": "application/json", ...TOKEN_HEADERS },
-    body: JSON.stringify({ region: regionText, profile: state.profile }),
+    body: JSON.stringify({ region: regionText, profile: state.profile, scene: $("scene-after").value }),
   }).catch(() => null);
   if (sequence !== state.sequence) return;
   const body = response ? await response.json().catch(() => ({})) : {};
@@ -190,7 +195,7 @@ async function makeMap() {
   const response = await fetch(`/api/readings/${state.reading.id}/map`, {
     method: "POST",
     headers: { "Content-Type": "application/json", ...TOKEN_HEADERS },
-    body: JSON.stringify({ region: editor.text(), profile: state.profile }),
+    body: JSON.stringify({ region: editor.text(), profile: state.profile, scene: $("scene-after").value }),
   }).catch(() => null);
   if (sequence !== state.sequence) return;  // the area changed meanwhile: that answer is stale
   const body = response ? await response.json().catch(() => ({})) : {};
@@ -237,6 +242,22 @@ function setProfile(name) {
   if (state.reading) remeasure(editor.text());
 }
 
+function sceneLabel(scene) {
+  const choice = SCENE_CHOICES.find((input) => input.value === scene);
+  return choice ? choice.parentElement.textContent.trim() : scene;
+}
+
+// The scene for new photos (remembered on this device); with a reading on show, it is measured again as it.
+function setScene(scene, remeasureShown) {
+  state.scene = SCENE_CHOICES.some((input) => input.value === scene) ? scene : "other";
+  remember(SCENE_KEY, state.scene);
+  for (const input of SCENE_CHOICES) input.checked = input.value === state.scene;
+  if (remeasureShown && state.reading) {
+    $("scene-after").value = state.scene;
+    remeasure(editor.text());
+  }
+}
+
 function showUnit(unit) {
   const changed = unit !== state.unit;
   state.unit = unit;
@@ -262,6 +283,8 @@ for (const chip of document.querySelectorAll("[data-shape]")) {
   chip.addEventListener("click", () => { choosePhotoKind(chip.dataset.shape); editor.setKind(chip.dataset.shape); });
 }
 $("measure-drawn").addEventListener("click", () => upload(state.file, editor.text()));
+for (const input of SCENE_CHOICES) input.addEventListener("change", () => { if (input.checked) setScene(input.value, false); });
+$("scene-after").addEventListener("change", () => setScene($("scene-after").value, true));
 $("map-make").addEventListener("click", makeMap);
 for (const select of document.querySelectorAll("[data-profile]")) {
   select.addEventListener("change", () => setProfile(select.value));
@@ -286,6 +309,7 @@ $("again").addEventListener("click", () => {
 });
 
 showUnit(state.unit);
+setScene(remembered(SCENE_KEY, "other"), false);
 loadScale();
 loadProfiles(state.unit);
 onQueueChange(sentByItself);

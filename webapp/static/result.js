@@ -75,6 +75,22 @@ function bandLine(words, low, high, unit) {
   return line;
 }
 
+// Which channels set the band, and the emissivity range the brightness channel took for the
+// scene: "From colour and brightness · emissivity 0.9-1, kiln".
+function showChannels(reading) {
+  const line = $("channels");
+  const text = reading.channels_text;
+  line.hidden = !text;
+  if (!text) return;
+  const parts = [text[0].toUpperCase() + text.slice(1)];
+  if ((reading.channels || []).includes("brightness") && reading.emissivity) {
+    const [low, high] = reading.emissivity;
+    const choice = document.querySelector(`[data-scene-choice][value="${reading.scene}"]`);
+    parts.push(`emissivity ${low}-${high}, ${choice ? choice.dataset.short : reading.scene}`);
+  }
+  line.textContent = parts.join(" · ");
+}
+
 function showGlowName(reading) {
   const line = $("glow-name");
   line.textContent = reading.glow_name ? `Heat colour: ${reading.glow_name}` : "";
@@ -187,6 +203,7 @@ function markScale(reading, unit) {
 
 export function showReading(reading, unit) {
   showValue(reading, unit);
+  showChannels(reading);
   const anyNumber = reading.temperature_c !== null || reading.interval_95_c || reading.upper_bound_c !== null;
   $("units").hidden = !anyNumber;
   showGlowName(reading);

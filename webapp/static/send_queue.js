@@ -129,8 +129,10 @@ function capturedAt(file, now) {
 
 // Keep a photo with what goes with it; resolves to the stored entry once it is safely kept.
 // `where`: {firingId, firingName} (null id: a plain measurement), `trusted`: the API's
-// text fields (reference_c or reference_f, cone, cone_state, note), `region`, `profile`.
-export async function keepPhoto(file, { firingId = null, firingName = "", trusted = {}, region = "", profile = "" } = {}) {
+// text fields (reference_c or reference_f, cone, cone_state, magnet, note), `region`,
+// `profile`, and `scene` (kiln, steel or other; "" for the firing's) with its words `sceneLabel`.
+export async function keepPhoto(file, { firingId = null, firingName = "", trusted = {}, region = "", profile = "",
+                                        scene = "", sceneLabel = "" } = {}) {
   const now = Date.now();
   const bytes = await file.arrayBuffer();  // read at once: a camera's file may not stay readable
   const exif = exifTakenAt(bytes);
@@ -147,6 +149,8 @@ export async function keepPhoto(file, { firingId = null, firingName = "", truste
     trusted,
     region,
     profile,
+    scene,
+    sceneLabel,
     queuedAt: now,
     tries: 0,
     problem: "",     // why the last try did not store it
@@ -173,6 +177,7 @@ function formOf(entry) {
   form.append("captured_at", new Date(entry.capturedAt).toISOString());
   if (entry.region) form.append("region", entry.region);
   if (entry.profile) form.append("profile", entry.profile);
+  if (entry.scene) form.append("scene", entry.scene);  // kept before scenes were sent: the server's default
   for (const [name, value] of Object.entries(entry.trusted || {})) if (value !== "") form.append(name, value);
   return form;
 }

@@ -40,13 +40,15 @@ export function heading(entries) {
   return parts.join("; ");
 }
 
-// What goes with the photo: its firing and the trusted values typed with it.
+// What goes with the photo: its firing, what it shows and the trusted values typed with it.
 function goesWith(entry) {
   const trusted = entry.trusted || {};
   const parts = [entry.firingId === null ? "measure only" : `into ${entry.firingName || `firing ${entry.firingId}`}`];
+  if (entry.scene) parts.push((entry.sceneLabel || entry.scene).toLowerCase());
   if (trusted.reference_c) parts.push(`thermocouple ${trusted.reference_c} °C`);
   if (trusted.reference_f) parts.push(`thermocouple ${trusted.reference_f} °F`);
   if (trusted.cone) parts.push(`cone ${trusted.cone}${trusted.cone_state ? ` ${trusted.cone_state}` : ""}`);
+  if (trusted.magnet) parts.push("magnet let go");
   if (trusted.note) parts.push(`note “${trusted.note.length > 40 ? `${trusted.note.slice(0, 40)}…` : trusted.note}”`);
   return parts.join(" · ");
 }
