@@ -6,7 +6,9 @@ starting at the first photo's time, then each photo and its reading in time orde
 while writing removes the new firing and the photos only it used, so the log is as before.
 
 EXIF times are the camera's local time without a zone (CIPA DC-008, DateTimeOriginal); they
-are stored as the computer's local time, as the firing log does for every photo.
+are stored as the computer's local time, as the firing log does for every photo. The photos are
+measured as the firing's scene (what is photographed), the one given or else the one its kind
+of work suggests (:func:`glowtemp.logbook_fields.scene_for_kind`).
 """
 
 from __future__ import annotations
@@ -28,12 +30,12 @@ def _named(items) -> str:
     return shown + (f"; and {len(items) - LISTED_PROBLEMS} more" if len(items) > LISTED_PROBLEMS else "")
 
 
-def measured_series(paths, *, region=None, profile=None, jobs=None, progress=None) -> list:
+def measured_series(paths, *, region=None, profile=None, scene="other", jobs=None, progress=None) -> list:
     """(taken_at, Measured) for every photo, in time order; raises :class:`SeriesError` if any
     photo cannot be measured or has no EXIF time."""
     from .batch import measure_many
 
-    measured = list(measure_many(paths, region=region, profile=profile, jobs=jobs, progress=progress))
+    measured = list(measure_many(paths, region=region, profile=profile, scene=scene, jobs=jobs, progress=progress))
     failed = [f"{m.path}: {m.error}" for m in measured if m.error]
     if failed:
         raise SeriesError(f"{len(failed)} of {len(measured)} photos cannot be measured, so no firing was made: {_named(failed)}")
@@ -47,12 +49,15 @@ def measured_series(paths, *, region=None, profile=None, jobs=None, progress=Non
     return sorted(timed, key=lambda item: (item[0], item[1].path))
 
 
-def firing_from_photos(log, name: str, paths, *, region=None, profile=None, jobs=None, progress=None, kind="glaze") -> int:
+def firing_from_photos(log, name: str, paths, *, region=None, profile=None, jobs=None, progress=None, kind="glaze",
+                       scene=None) -> int:  # fmt: skip
     """Create a firing named ``name`` from photo files; returns its id. All or nothing."""
+    from .logbook_fields import scene_for_kind
     from .photo import STORED_SUFFIXES
 
-    series = measured_series(paths, region=region, profile=profile, jobs=jobs, progress=progress)
-    firing_id = log.create_firing(name=name, kind=kind, started_at=series[0][0])
+    scene = scene or scene_for_kind(kind)
+    series = measured_series(paths, region=region, profile=profile, scene=scene, jobs=jobs, progress=progress)
+    firing_id = log.create_firing(name=name, kind=kind, scene=scene, started_at=series[0][0])
     stored = []
     try:
         for taken_at, measured in series:
@@ -78,7 +83,7 @@ def _from_photos(args) -> int:
     try:
         paths = collect_photos(args.photos)
         with Logbook(data_dir(args.data)) as log:
-            firing_id = firing_from_photos(log, args.name, paths, jobs=args.jobs, kind=args.kind)
+            firing_id = firing_from_photos(log, args.name, paths, jobs=args.jobs, kind=args.kind, scene=args.scene)
             firing = log.get_firing(firing_id)
             times = [r["taken_at"] for r in log.readings_in(firing_id)]
     except (BatchError, SeriesError, LogbookError, OSError) as error:
@@ -99,6 +104,8 @@ def add_series_commands(commands) -> None:
     series.add_argument("name", metavar="NAME", help="the new firing's name")
     series.add_argument("photos", nargs="+", metavar="PHOTO", help="photo files or folders of photos")
     series.add_argument("--kind", default="glaze", help="bisque, glaze, glass, forging, heat treatment or other")
+    series.add_argument("--scene", choices=("kiln", "steel", "other"),
+                        help="what the photos show (default: kilns kiln, forging and heat treatment steel)")
     series.add_argument("--jobs", type=int, metavar="N", help="processes to measure with (default: all cores)")
     series.add_argument("--data", metavar="DIR", help="data folder (profiles, firing log)")
     series.set_defaults(run=_from_photos)

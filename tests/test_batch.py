@@ -46,8 +46,8 @@ def folder(tmp_path):
     return photos
 
 
-def single(path) -> dict:
-    return measure(load_photo(path), photo_name=str(path)).to_dict()
+def single(path, scene="other") -> dict:
+    return measure(load_photo(path), photo_name=str(path), scene=scene).to_dict()
 
 
 def test_folders_expand_to_their_photos_by_name_and_missing_paths_are_refused(folder, tmp_path):
@@ -128,7 +128,18 @@ def test_a_firing_is_made_from_a_timed_series_in_time_order(folder, tmp_path):
     assert firing["name"] == "Glaze 12" and firing["reading_count"] == 4
     assert [r["photo_name"] for r in readings] == ["kiln-0.jpg", "kiln-1.jpg", "kiln-2.jpg", "kiln-3.jpg"]
     assert datetime.fromisoformat(firing["started_at"]) == START.astimezone()  # EXIF time is local time
-    assert [r["result"]["temperature_c"] for r in readings] == [single(p)["temperature_c"] for p in paths]
+    # A glaze firing photographs a kiln's inside: each photo is measured as that scene.
+    assert firing["scene"] == "kiln"
+    assert [r["result"] for r in readings] == [single(p, "kiln") for p in paths]
+
+
+def test_a_series_is_measured_as_the_scene_given_or_the_one_its_kind_suggests(folder, tmp_path):
+    paths = collect_photos([folder])[1:3]
+    with Logbook(tmp_path / "data") as log:
+        forged = log.get_firing(firing_from_photos(log, "Forge", paths, jobs=1, kind="forging"))
+        told = log.get_firing(firing_from_photos(log, "Enamel", paths, jobs=1, kind="glaze", scene="steel"))
+        assert (forged["scene"], told["scene"]) == ("steel", "steel")
+        assert {r["result"]["scene"] for r in log.readings_in(forged["id"]) + log.readings_in(told["id"])} == {"steel"}
 
 
 def test_an_untimed_or_unreadable_photo_stops_the_series_and_stores_nothing(folder, tmp_path):
