@@ -40,8 +40,8 @@ from .scales import (
 MOSTLY_CLIPPED = 0.5  # with more of the region blown out, the rest is the rim: no estimate
 
 INSTRUMENT_NOTICE = (
-    "An estimate from colour, not a calibrated instrument: check it against a thermocouple or "
-    "witness cones before relying on it."
+    "An estimate from a photo's colour and brightness, not a calibrated instrument: check it "
+    "against a thermocouple or witness cones before relying on it."
 )
 
 
@@ -61,6 +61,7 @@ class Reading:
     profile: str | None = None
     region_colour_hex: str | None = None
     scene: str = DEFAULT_SCENE
+    emissivity_fitted: bool = False  # a profile made on this kind of scene holds the emissivity itself
     extra: dict = field(default_factory=dict)
 
     def _shown(self, from_kelvin):
@@ -119,7 +120,7 @@ class Reading:
             "camera": self.metadata,
             "profile": self.profile,
             "scene": self.scene,
-            "emissivity": list(scene_bounds(self.scene)),
+            "emissivity": None if self.emissivity_fitted else list(scene_bounds(self.scene)),
             "channels": list(self.estimate.channels),
             "channels_text": channels_text(self.estimate),
             "notice": INSTRUMENT_NOTICE,
@@ -317,4 +318,5 @@ def measure(
         profile=applied.name if applied is not None else None,
         region_colour_hex=region_colour_hex(stats.mean_linear, photo.space),
         scene=scene,
+        emissivity_fitted=bounds is not None and bright is not None,
     )
