@@ -128,8 +128,14 @@ def _log_upper_tail(z):
     erfc(z / sqrt 2), kept in logs so far tails do not underflow)."""
     x = np.asarray(z, dtype=float) / math.sqrt(2.0)
     t = 1.0 / (1.0 + _ERFC_P * x)
-    poly = t * (_ERFC_A[0] + t * (_ERFC_A[1] + t * (_ERFC_A[2] + t * (_ERFC_A[3] + t * _ERFC_A[4]))))
-    return math.log(0.5) + np.log(poly) - x**2
+    poly = t * _ERFC_A[4]  # Horner's scheme, t (a0 + t (a1 + t (a2 + t (a3 + t a4)))), in place
+    for a in reversed(_ERFC_A[:4]):
+        poly += a
+        poly *= t
+    np.log(poly, out=poly)
+    poly += math.log(0.5)
+    poly -= np.square(x, out=x)
+    return poly
 
 
 def log_likelihood(residual, sigma: float, emissivity_bounds) -> np.ndarray:
@@ -150,10 +156,14 @@ def log_likelihood(residual, sigma: float, emissivity_bounds) -> np.ndarray:
     upper = (residual - a) / sigma  # > 0 unless the residual is below the lowest emissivity
     lower = (b - residual) / sigma  # > 0 unless it is above the highest
     inside = (upper > 0) & (lower > 0)
+    found = np.empty(np.broadcast(upper, lower).shape)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        middle = np.log(np.clip(1.0 - np.exp(_log_upper_tail(np.abs(upper))) - np.exp(_log_upper_tail(np.abs(lower))), 1e-300, None))
-        near = np.where(upper <= 0, -upper, -lower).clip(0.0)
-        far = np.where(upper <= 0, lower, upper).clip(0.0)
+        # each residual's own formula only: most members lie outside the bounds at most heats
+        up, low = upper[inside], lower[inside]
+        found[inside] = np.log(np.clip(1.0 - np.exp(_log_upper_tail(up)) - np.exp(_log_upper_tail(low)), 1e-300, None))
+        up, low = upper[~inside], lower[~inside]
+        near = np.where(up <= 0, -up, -low).clip(0.0)
+        far = np.where(up <= 0, low, up).clip(0.0)
         log_near, log_far = _log_upper_tail(near), _log_upper_tail(far)
-        outside = log_near + np.log1p(-np.exp(np.minimum(log_far - log_near, -1e-12)))
-    return np.where(inside, middle, outside) - math.log(b - a)
+        found[~inside] = log_near + np.log1p(-np.exp(np.minimum(log_far - log_near, -1e-12)))
+    return found - math.log(b - a)

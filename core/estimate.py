@@ -42,6 +42,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field, replace
+from functools import cached_property, lru_cache, partial
 
 import numpy as np
 
@@ -70,6 +71,8 @@ MEMBER_RATIO_SIGMA = 0.03
 # a surface that is not grey), and the reading gives the range both allow instead of a product
 # sitting in the tails of each.
 CHANNELS_AGREE = 0.2
+MEMBERS_PER_BLOCK = 16  # the brightness likelihood is worked out for this many members at a time,
+# so that its intermediate arrays stay in a core's cache (speed only: the numbers are the same)
 
 
 @dataclass(frozen=True)
@@ -87,6 +90,16 @@ class Cameras:
     weights: np.ndarray
     departure_sigma: float = brightness_channel.DEPARTURE_SIGMA
     white_balance_factors: np.ndarray = field(default_factory=lambda: np.ones((1, 2)))  # (whites, 2)
+
+    @cached_property
+    def channel_ratios(self) -> tuple:
+        """Green/red and blue/red as two contiguous (members, grid) arrays."""
+        return tuple(np.ascontiguousarray(self.ratios[..., channel]) for channel in range(2))
+
+    @cached_property
+    def channel_variance(self) -> tuple:
+        """The camera part of their variance, likewise."""
+        return tuple(np.ascontiguousarray(self.variance[..., channel]) for channel in range(2))
 
 
 def _on_grid(values_by_table_k):
@@ -146,6 +159,31 @@ class CameraTerm:
         )
 
 
+@lru_cache(maxsize=4)
+def _grid_weights(table_k: tuple):
+    """Where each point of :data:`GRID_K` falls on a table's temperature grid, for
+    :func:`_interpolate_rows`: (on a node, that node, the node below, distance above it)."""
+    nodes = np.array(table_k)
+    right = np.searchsorted(nodes, GRID_K)  # nodes[right - 1] < t <= nodes[right]
+    on_node = (right < nodes.size) & (nodes[np.minimum(right, nodes.size - 1)] == GRID_K)
+    below = np.clip(right - 1, 0, nodes.size - 2)
+    return on_node, np.minimum(right, nodes.size - 1), below, GRID_K - nodes[below]
+
+
+def _interpolate_rows(table_k: np.ndarray, rows: np.ndarray) -> np.ndarray:
+    """Each row of ``rows`` (values on ``table_k``) linearly interpolated at :data:`GRID_K`: the
+    same arithmetic as ``np.interp`` row by row (a node's own value where a grid point is on one,
+    else ``slope * (t - t_below) + y_below``), so the numbers are identical, in one pass.
+    :data:`GRID_K` lies inside the table, so nothing is held at the ends."""
+    on_node, node, below, above = _grid_weights(tuple(table_k))
+    slopes = np.diff(rows, axis=-1) / np.diff(table_k)
+    found = np.take(slopes, below, axis=-1)
+    found *= above
+    found += np.take(rows, below, axis=-1)
+    found[:, on_node] = rows[:, node[on_node]]
+    return found
+
+
 def population_cameras(space: RGBSpace, red_level: float, population: Population | None = None,
                        auto_white_balance: bool = False) -> Cameras | None:
     """The population's members in ``space`` at a recorded red level (share of full code), on
@@ -155,8 +193,7 @@ def population_cameras(space: RGBSpace, red_level: float, population: Population
     if not population.knows(space.name, auto_white_balance):
         return None
     ratios, response = population.at_level(space.name, red_level, auto_white_balance)
-    grid = population.temperature_k
-    interpolate = lambda table: np.stack([np.interp(GRID_K, grid, row) for row in table])  # noqa: E731
+    interpolate = partial(_interpolate_rows, population.temperature_k)
     ratios = np.stack([interpolate(ratios[..., 0]), interpolate(ratios[..., 1])], axis=-1)
     variance = (MEMBER_RATIO_SIGMA * ratios) ** 2 + MEMBER_FLOOR**2
     weights = population.weights[population.keep]
@@ -269,23 +306,47 @@ def _logmeanexp(values, axis):
     return np.squeeze(peak, axis=axis) + np.log(np.exp(values - peak).mean(axis=axis))
 
 
+def _one_white(ratios, squared_errors, cameras: Cameras, factor, scale: float):
+    """Log-likelihood and chi^2 per member and grid point for one white-balance factor, one
+    ratio at a time on contiguous (members, grid) arrays; multiplying by a factor or scale of
+    exactly 1 is left out, since it changes no number."""
+    loglike = chi2 = None
+    for channel in range(2):
+        variance = cameras.channel_variance[channel]
+        predicted = cameras.channel_ratios[channel]
+        if factor[channel] != 1.0:
+            variance = variance * factor[channel] ** 2
+            predicted = predicted * factor[channel]
+        variance = squared_errors[channel] + variance
+        if scale != 1.0:
+            variance = variance * scale**2
+        term = (ratios[channel] - predicted) ** 2 / variance
+        chi2 = term if chi2 is None else chi2 + term
+        logs = np.log(variance)
+        loglike = logs if loglike is None else loglike + logs
+    return -0.5 * (chi2 + loglike), chi2
+
+
 def colour_log_likelihood(ratios, ratio_errors, cameras: Cameras, scale: float = 1.0):
     """Per member and grid point: the Gaussian log-likelihood of the observed ratios, averaged over
     the white-balance factors (marginalised), and chi^2 (the best over the factors)."""
-    loglikes, chi2s = [], []
-    for factor in cameras.white_balance_factors:
-        variance = (ratio_errors**2 + cameras.variance * factor**2) * scale**2
-        chi2 = ((ratios - cameras.ratios * factor) ** 2 / variance).sum(axis=-1)
-        loglikes.append(-0.5 * (chi2 + np.log(variance).sum(axis=-1)))
-        chi2s.append(chi2)
-    return _logmeanexp(np.array(loglikes), axis=0), np.min(chi2s, axis=0)
+    squared_errors = np.asarray(ratio_errors) ** 2
+    found = [_one_white(ratios, squared_errors, cameras, factor, scale) for factor in cameras.white_balance_factors]
+    if len(found) == 1:  # the mean over one factor is that factor's own value
+        return found[0]
+    return _logmeanexp(np.array([ll for ll, _ in found]), axis=0), np.min([c for _, c in found], axis=0)
 
 
 def brightness_log_likelihood(observation: Brightness, cameras: Cameras) -> np.ndarray:
     """Per member and grid point: ln p(recorded red | T), :func:`glowtemp.brightness.log_likelihood`."""
-    predicted = observation.log_scale + np.log(observation.ideal_red)[None, :] + cameras.log_response
+    ideal = observation.log_scale + np.log(observation.ideal_red)
     sigma = float(np.hypot(cameras.departure_sigma, observation.log_red_sigma))
-    return brightness_channel.log_likelihood(observation.log_red - predicted, sigma, observation.emissivity_bounds)
+    found = np.empty(cameras.log_response.shape)
+    for start in range(0, found.shape[0], MEMBERS_PER_BLOCK):
+        block = slice(start, start + MEMBERS_PER_BLOCK)
+        residual = observation.log_red - (ideal + cameras.log_response[block])
+        found[block] = brightness_channel.log_likelihood(residual, sigma, observation.emissivity_bounds)
+    return found
 
 
 def _mixture(member_loglike, weights):

@@ -4,7 +4,8 @@ The table ``data/camera_population.npz`` is written by :mod:`glowtemp.population
 the 38 measured cameras of the Academy Software Foundation's rawtoaces data, Apache-2.0, see
 ``data/NOTICE.md``; colour-science's NPL cameras; and a parametric family). For each member,
 output space, temperature (10 K steps) and recorded red level it holds the green/red and
-blue/red the estimator will observe and the brightness response. Loading it needs numpy only.
+blue/red the estimator will observe and the brightness response. Loading it needs numpy only,
+and a space's tables are read from the file only when a photo in that space asks for them.
 
 The estimator marginalises over the members: its likelihood is the members' mixture
 (:func:`glowtemp.estimate.estimate_temperature`), so the band is wide where cameras disagree
@@ -19,6 +20,7 @@ References
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
@@ -26,6 +28,27 @@ from pathlib import Path
 import numpy as np
 
 TABLE_PATH = Path(__file__).with_name("data") / "camera_population.npz"
+
+
+class TablesOnDemand(Mapping):
+    """Space name -> one kind of table of the shipped file, each read (and decompressed) the
+    first time it is asked for: a photo needs one space, and reading all of them would cost a
+    cold start more than the estimate itself."""
+
+    def __init__(self, path: Path, members: dict):
+        self._path, self._members, self._read = path, members, {}
+
+    def __getitem__(self, space_name: str) -> np.ndarray:
+        if space_name not in self._read:
+            with np.load(self._path) as table:
+                self._read[space_name] = table[self._members[space_name]]
+        return self._read[space_name]
+
+    def __iter__(self):
+        return iter(self._members)
+
+    def __len__(self) -> int:
+        return len(self._members)
 
 
 @dataclass(frozen=True)
@@ -37,9 +60,9 @@ class Population:
     maker: np.ndarray  # (members,)
     sensor: np.ndarray
     tone_curve: np.ndarray
-    ratios: dict  # space name -> (members, levels, t, 2)
-    log_response: dict  # space name -> (members, levels, t)
-    auto_ratios: dict  # space name -> (members, levels, t, 2) with automatic white balance
+    ratios: Mapping  # space name -> (members, levels, t, 2)
+    log_response: Mapping  # space name -> (members, levels, t)
+    auto_ratios: Mapping  # space name -> (members, levels, t, 2) with automatic white balance
     keep: np.ndarray  # (members,) bool: the members in use
 
     @property
@@ -83,13 +106,12 @@ class Population:
 
 @lru_cache(maxsize=1)
 def camera_population() -> Population:
-    """The shipped camera prior (loaded once per process)."""
+    """The shipped camera prior (loaded once per process; each space's tables when first used)."""
     with np.load(TABLE_PATH) as table:
         spaces = [str(table[key]) for key in sorted(table.files) if key.startswith("space_")]
         indices = [key.split("_")[1] for key in sorted(table.files) if key.startswith("space_")]
-        ratios = {name: table[f"ratios_{i}"] for name, i in zip(spaces, indices)}
-        response = {name: table[f"log_response_{i}"] for name, i in zip(spaces, indices)}
-        auto = {name: table[f"auto_ratios_{i}"] for name, i in zip(spaces, indices) if f"auto_ratios_{i}" in table.files}
+        on_demand = lambda kind: TablesOnDemand(TABLE_PATH, {  # noqa: E731
+            name: f"{kind}_{i}" for name, i in zip(spaces, indices) if f"{kind}_{i}" in table.files})
         maker = table["maker"].astype(str)
         return Population(
             temperature_k=table["temperature_k"].astype(float),
@@ -97,8 +119,8 @@ def camera_population() -> Population:
             maker=maker,
             sensor=table["sensor"].astype(str),
             tone_curve=table["tone_curve"].astype(str),
-            ratios=ratios,
-            log_response=response,
-            auto_ratios=auto,
+            ratios=on_demand("ratios"),
+            log_response=on_demand("log_response"),
+            auto_ratios=on_demand("auto_ratios"),
             keep=np.ones(maker.size, dtype=bool),
         )
