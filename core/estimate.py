@@ -42,7 +42,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field, replace
-from functools import cached_property, lru_cache, partial
+from functools import lru_cache, partial
 
 import numpy as np
 
@@ -71,8 +71,8 @@ MEMBER_RATIO_SIGMA = 0.03
 # a surface that is not grey), and the reading gives the range both allow instead of a product
 # sitting in the tails of each.
 CHANNELS_AGREE = 0.2
-MEMBERS_PER_BLOCK = 16  # the brightness likelihood is worked out for this many members at a time,
-# so that its intermediate arrays stay in a core's cache (speed only: the numbers are the same)
+MEMBERS_PER_BLOCK = 16  # the likelihoods are worked out for this many members at a time, so that
+# their intermediate arrays stay in a core's cache (speed only: the numbers are the same)
 
 
 @dataclass(frozen=True)
@@ -90,16 +90,6 @@ class Cameras:
     weights: np.ndarray
     departure_sigma: float = brightness_channel.DEPARTURE_SIGMA
     white_balance_factors: np.ndarray = field(default_factory=lambda: np.ones((1, 2)))  # (whites, 2)
-
-    @cached_property
-    def channel_ratios(self) -> tuple:
-        """Green/red and blue/red as two contiguous (members, grid) arrays."""
-        return tuple(np.ascontiguousarray(self.ratios[..., channel]) for channel in range(2))
-
-    @cached_property
-    def channel_variance(self) -> tuple:
-        """The camera part of their variance, likewise."""
-        return tuple(np.ascontiguousarray(self.variance[..., channel]) for channel in range(2))
 
 
 def _on_grid(values_by_table_k):
@@ -308,23 +298,28 @@ def _logmeanexp(values, axis):
 
 def _one_white(ratios, squared_errors, cameras: Cameras, factor, scale: float):
     """Log-likelihood and chi^2 per member and grid point for one white-balance factor, one
-    ratio at a time on contiguous (members, grid) arrays; multiplying by a factor or scale of
-    exactly 1 is left out, since it changes no number."""
-    loglike = chi2 = None
-    for channel in range(2):
-        variance = cameras.channel_variance[channel]
-        predicted = cameras.channel_ratios[channel]
-        if factor[channel] != 1.0:
-            variance = variance * factor[channel] ** 2
-            predicted = predicted * factor[channel]
-        variance = squared_errors[channel] + variance
-        if scale != 1.0:
-            variance = variance * scale**2
-        term = (ratios[channel] - predicted) ** 2 / variance
-        chi2 = term if chi2 is None else chi2 + term
-        logs = np.log(variance)
-        loglike = logs if loglike is None else loglike + logs
-    return -0.5 * (chi2 + loglike), chi2
+    ratio at a time and :data:`MEMBERS_PER_BLOCK` members at a time; multiplying by a factor or
+    scale of exactly 1 is left out, since it changes no number."""
+    loglike, chi2 = np.empty(cameras.ratios.shape[:2]), np.empty(cameras.ratios.shape[:2])
+    for start in range(0, loglike.shape[0], MEMBERS_PER_BLOCK):
+        block = slice(start, start + MEMBERS_PER_BLOCK)
+        block_chi2 = block_logs = None
+        for channel in range(2):
+            variance = cameras.variance[block, :, channel]
+            predicted = cameras.ratios[block, :, channel]
+            if factor[channel] != 1.0:
+                variance = variance * factor[channel] ** 2
+                predicted = predicted * factor[channel]
+            variance = squared_errors[channel] + variance
+            if scale != 1.0:
+                variance = variance * scale**2
+            term = (ratios[channel] - predicted) ** 2 / variance
+            block_chi2 = term if block_chi2 is None else block_chi2 + term
+            logs = np.log(variance)
+            block_logs = logs if block_logs is None else block_logs + logs
+        loglike[block] = -0.5 * (block_chi2 + block_logs)
+        chi2[block] = block_chi2
+    return loglike, chi2
 
 
 def colour_log_likelihood(ratios, ratio_errors, cameras: Cameras, scale: float = 1.0):
