@@ -68,12 +68,14 @@ def collect_photos(inputs) -> list[str]:
 
 def measure_file(path: str, region=None, profile=None, scene: str = "other") -> Measured:
     """Decode and measure one photo file, as ``glowtemp measure`` does."""
-    from .photo import PhotoError, load_photo
-    from .reading import measure
+    from .photo import PhotoError, begin_loading
     from .region import RegionError
 
     try:
-        photo = load_photo(path)
+        finish_loading = begin_loading(path)
+        from .reading import measure  # its modules load while a JPEG's pixels decode
+
+        photo = finish_loading()
         reading = measure(photo, region, photo_name=path, profile=profile, scene=scene)
     except (PhotoError, RegionError, OSError) as error:
         return Measured(path, None, getattr(error, "strerror", None) or str(error))

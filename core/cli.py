@@ -22,7 +22,6 @@ def _measure(args) -> int:
     for name, value in SINGLE_BLAS_THREAD.items():
         os.environ.setdefault(name, value)
     from .batch import BatchError, collect_photos
-    from .reading import INSTRUMENT_NOTICE
     from .region import parse_circle, parse_rectangle
 
     try:
@@ -43,6 +42,8 @@ def _measure(args) -> int:
     else:
         failures = _measure_files(args, paths, region, profile)
     if not (args.json or args.csv or args.jsonl):
+        from .reading import INSTRUMENT_NOTICE
+
         print(INSTRUMENT_NOTICE, file=sys.stderr)
     return 1 if failures else 0
 

@@ -36,6 +36,7 @@ import io
 import math
 import os
 import struct
+import threading
 import warnings
 import zlib
 from dataclasses import dataclass
@@ -468,23 +469,40 @@ def _png16_pixels(data: bytes) -> np.ndarray:
     return _three_channels(pixels.astype(np.uint16, copy=False), colour=pixels.shape[2] >= 3)
 
 
-def _jpeg_pixels(data: bytes, image: Image.Image) -> np.ndarray | None:
-    """Baseline or progressive RGB JPEG decoded by libjpeg-turbo straight into an array.
+class JpegDecoding(threading.Thread):
+    """Baseline or progressive RGB JPEG decoded by libjpeg-turbo straight into an array, in a
+    worker thread: the decoder runs without Python's global lock, so the caller reads EXIF and
+    the colour profile (and may load what measuring needs) meanwhile.
 
     The same library as Pillow's, without Pillow's copy out of its own image memory. Used only
     for a complete file (ending in the EOI marker, ITU-T T.81 B.2.1), since a truncated one is
-    decoded without complaint; anything else returns None and goes the Pillow way.
+    decoded without complaint (:func:`complete_jpeg`); :meth:`pixels` is None when the decoder
+    refuses the file or gives another shape, and the Pillow way is taken.
     """
-    if not data.rstrip(b"\x00").endswith(b"\xff\xd9"):
-        return None
-    from imagecodecs import _jpeg8
 
-    try:
-        pixels = _jpeg8.jpeg8_decode(data)
-    except _jpeg8.Jpeg8Error:
-        return None
-    width, height = image.size
-    return pixels if pixels.shape == (height, width, 3) else None
+    def __init__(self, data: bytes, size: tuple[int, int]):
+        from imagecodecs import _jpeg8  # imported here, in the caller's thread
+
+        super().__init__(name="jpeg-decode", daemon=True)
+        self._decoder, self._data, self._size, self._pixels = _jpeg8, data, size, None
+        self.start()
+
+    def run(self) -> None:
+        try:
+            self._pixels = self._decoder.jpeg8_decode(self._data)
+        except self._decoder.Jpeg8Error:
+            self._pixels = None
+
+    def pixels(self) -> np.ndarray | None:
+        self.join()
+        width, height = self._size
+        pixels, self._pixels = self._pixels, None
+        return pixels if pixels is not None and pixels.shape == (height, width, 3) else None
+
+
+def complete_jpeg(data: bytes) -> bool:
+    """Whether JPEG data end in the EOI marker (ITU-T T.81 B.2.1), trailing zero bytes aside."""
+    return data.rstrip(b"\x00").endswith(b"\xff\xd9")
 
 
 def ends_in_filled_blocks(codes: np.ndarray) -> bool:
@@ -527,16 +545,15 @@ def _tiff16_pixels(data: bytes) -> np.ndarray:
     return _three_channels(pixels.astype(np.uint16, copy=False), colour)
 
 
-def _pixels(image: Image.Image, data: bytes, fmt: str) -> np.ndarray:
+def _pixels(image: Image.Image, data: bytes, fmt: str, decoding: JpegDecoding | None) -> np.ndarray:
     try:
         if fmt == "PNG" and data[24] == 16:  # IHDR bit depth, PNG 3rd ed. section 11.2.1
             return _png16_pixels(data)
         if fmt == "TIFF" and 16 in np.atleast_1d(image.tag_v2.get(258, 8)):  # BitsPerSample
             return _tiff16_pixels(data)
-        if fmt == "JPEG" and image.mode == "RGB":
-            fast = _jpeg_pixels(data, image)
-            if fast is not None:
-                return fast
+        fast = decoding.pixels() if decoding is not None else None
+        if fast is not None:
+            return fast
         return _pillow_pixels(image)
     except PhotoError:
         raise
@@ -652,22 +669,46 @@ def load_photo(source, *, max_pixels: int = 50_000_000, max_bytes: int = LARGEST
     than ``max_pixels`` (checked from the header, before decoding) or smaller than 8 x 8. A
     named file must be a regular file of at most ``max_bytes`` (:mod:`glowtemp.regular_file`).
     """
+    return begin_loading(source, max_pixels=max_pixels, max_bytes=max_bytes)()
+
+
+def begin_loading(source, *, max_pixels: int = 50_000_000, max_bytes: int = LARGEST_FILE_BYTES):
+    """:func:`load_photo` in two steps, so that a caller can do other work while the pixels of a
+    JPEG decode: reads the file and checks its header (every refusal that needs no pixels is
+    raised here), starts a complete RGB JPEG's decode in a worker thread (:class:`JpegDecoding`),
+    and returns the function that finishes the load and returns the :class:`Photo`.
+    """
     data = _read_bytes(source, max_bytes)
     if data[:2] in TIFF_BYTE_ORDERS:
         from .raw import is_dng, load_dng  # here, not at the top: raw builds on this module
 
         if is_dng(data):
-            return load_dng(data, max_pixels)
+            photo = load_dng(data, max_pixels)
+            return lambda: photo
     image = _open(data)
     try:
         fmt = _check_image(image, max_pixels)
+        decoding = None
+        if fmt == "JPEG" and image.mode == "RGB" and complete_jpeg(data):
+            decoding = JpegDecoding(data, image.size)
+    except BaseException:
+        image.close()
+        raise
+    return lambda: _finish_loading(image, data, fmt, decoding)
+
+
+def _finish_loading(image: Image.Image, data: bytes, fmt: str, decoding: JpegDecoding | None) -> Photo:
+    try:
         icc_bytes = image.info.get("icc_profile")
         nclx = image.info.get("nclx_profile")  # HEIF colour information without an ICC profile
-        codes = _pixels(image, data, fmt)
+        if fmt == "JPEG":
+            base, exif_ifd, interop = _exif(image)  # while the worker decodes the pixels
+        codes = _pixels(image, data, fmt, decoding)
         if fmt == "PNG" and codes.dtype == np.uint16 and "exif" not in image.info:
             chunk = png_exif_chunk(data)  # libpng read the pixels: keep Pillow from loading them too
             image.info["exif"] = None if chunk is None else b"Exif\x00\x00" + chunk
-        base, exif_ifd, interop = _exif(image)  # after the pixels: Pillow finds PNG eXIf late
+        if fmt != "JPEG":
+            base, exif_ifd, interop = _exif(image)  # after the pixels: Pillow finds PNG eXIf late
     finally:
         image.close()  # frees Pillow's pixel memory now (leaving a `with` block does not)
     max_code = 65535 if codes.dtype == np.uint16 else 255

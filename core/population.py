@@ -44,6 +44,11 @@ class TablesOnDemand(Mapping):
                 self._read[space_name] = table[self._members[space_name]]
         return self._read[space_name]
 
+    @property
+    def loaded(self) -> tuple:
+        """The spaces whose table has been read so far."""
+        return tuple(self._read)
+
     def __iter__(self):
         return iter(self._members)
 
