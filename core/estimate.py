@@ -291,9 +291,12 @@ def observed_ratios(mean_linear, standard_error):
 
 
 def _logmeanexp(values, axis):
+    """ln mean exp(values) along ``axis``, from the peak so nothing overflows; ``values`` (an
+    array the caller made for it) is overwritten."""
     peak = values.max(axis=axis, keepdims=True)
     peak = np.where(np.isfinite(peak), peak, 0.0)
-    return np.squeeze(peak, axis=axis) + np.log(np.exp(values - peak).mean(axis=axis))
+    values -= peak
+    return np.squeeze(peak, axis=axis) + np.log(np.exp(values, out=values).mean(axis=axis))
 
 
 def _one_white(ratios, squared_errors, cameras: Cameras, factor, scale: float):
