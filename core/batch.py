@@ -1,11 +1,12 @@
 """Batch runs: many photos measured on all cores, in input order, as CSV or JSON Lines rows.
 
 Each photo is measured exactly as one ``glowtemp measure`` does (decode, region, estimate);
-photos are shared between this process and worker processes started with *forkserver* (a
-clean process that imports glowtemp once and forks workers from itself; *spawn* where
-forkserver is missing), in chunks of a few photos so the cost of passing work between
-processes stays small next to a photo's decoding. Results come back in the order the photos
-were given.
+photos are shared between this process and worker processes, in chunks of a few photos so
+the cost of passing work between processes stays small next to a photo's decoding. Workers are
+forked from this process while it runs a single thread, so they start at once with glowtemp
+loaded; otherwise they come from *forkserver* (a clean process that imports glowtemp once and
+forks workers from itself; *spawn* where forkserver is missing). Results come back in the
+order the photos were given.
 
 A progress bar (tqdm) is drawn on standard error only when it is a terminal.
 
@@ -83,16 +84,32 @@ def measure_file(path: str, region=None, profile=None, scene: str = "other") -> 
 
 
 def start_method() -> str:
+    """How worker processes start: *fork* while this process runs a single thread (the worker is
+    a copy of it, glowtemp already loaded, ready at once), otherwise *forkserver* (*spawn*
+    where that is missing), since a child forked from a process with other threads may inherit
+    a lock that one of them held (Python documentation, multiprocessing, "Contexts and start
+    methods")."""
     import multiprocessing  # loaded only for a pool: it slows every start otherwise
+    import threading
 
-    return "forkserver" if "forkserver" in multiprocessing.get_all_start_methods() else "spawn"
+    methods = multiprocessing.get_all_start_methods()
+    if threading.active_count() == 1 and "fork" in methods:
+        return "fork"
+    return "forkserver" if "forkserver" in methods else "spawn"
 
 
 def progress_bar(total: int, enabled: bool | None = None):
-    """A tqdm bar on standard error; ``enabled=None`` draws it only when stderr is a terminal."""
+    """A tqdm bar on standard error, or None when there is none to draw (``enabled=None``: only
+    when stderr is a terminal). The bar runs no monitor thread (tqdm's ``monitor_interval``),
+    which would keep worker processes from starting by fork."""
+    if not (sys.stderr.isatty() if enabled is None else enabled):
+        return None
     from tqdm import tqdm
 
-    return tqdm(total=total, unit="photo", file=sys.stderr, disable=None if enabled is None else not enabled)
+    class Bar(tqdm):
+        monitor_interval = 0
+
+    return Bar(total=total, unit="photo", file=sys.stderr)
 
 
 def measure_chunk(work, paths) -> list:

@@ -115,3 +115,31 @@ def test_a_cut_jpeg_is_left_to_pillow_which_reports_it(jpeg_file, decoding_threa
     with pytest.raises(PhotoError, match="truncated or damaged"):
         begin_loading(data[: len(data) * 3 // 4])()  # no EOI marker
     assert decoding_threads == []
+
+
+def test_workers_are_forked_only_from_a_single_threaded_process():
+    from glowtemp.batch import start_method
+
+    alone = subprocess.run([sys.executable, "-c", "from glowtemp.batch import start_method; print(start_method())"],
+                           capture_output=True, text=True, check=True)
+    assert alone.stdout.strip() == "fork"
+    release = threading.Event()
+    other = threading.Thread(target=release.wait)
+    other.start()
+    try:
+        assert start_method() in ("forkserver", "spawn")
+    finally:
+        release.set()
+        other.join()
+
+
+def test_no_progress_bar_means_no_tqdm_thread():
+    from glowtemp.batch import progress_bar
+
+    before = set(threading.enumerate())
+    assert progress_bar(5, enabled=False) is None
+    bar = progress_bar(5, enabled=True)
+    try:
+        assert set(threading.enumerate()) <= before  # no monitor thread, so workers can still fork
+    finally:
+        bar.close()
