@@ -26,9 +26,10 @@ def render_12mp_photo(path: Path) -> None:
     subprocess.run([sys.executable, "-c", script, str(path)], check=True)
 
 
-def start_server(data_dir: Path, *extra: str):
-    """Start ``glowtemp serve`` on a free loopback port; returns (process, base URL)."""
-    command = [sys.executable, "-m", "glowtemp.cli", "serve", "--port", "0", "--data", str(data_dir), *extra]
+def start_server(data_dir: Path, *extra: str, python: str = sys.executable):
+    """Start ``glowtemp serve`` (of the install ``python`` runs) on a free loopback port;
+    returns (process, base URL)."""
+    command = [python, "-m", "glowtemp.cli", "serve", "--port", "0", "--data", str(data_dir), *extra]
     server = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
     for line in server.stdout:
         if line.startswith("Open "):

@@ -15,7 +15,11 @@ log holds every reading with its own photo.
 Also printed: the server's resident memory once the uploads are answered (VmRSS), what it
 keeps holding.
 
-Run: python bench/load.py [--uploads N] [--clients N] [--photo jpeg|png16]
+With ``--compare-with PYTHON`` the same load also runs against the server of another glowtemp
+install (a checkout of an older version with its own virtual environment), in alternating
+rounds of ``--uploads`` each (``--rounds``, default 2), and the two are printed side by side.
+
+Run: python bench/load.py [--uploads N] [--clients N] [--photo jpeg|png16] [--compare-with PYTHON]
 """
 
 from __future__ import annotations
@@ -24,6 +28,7 @@ import argparse
 import hashlib
 import json
 import statistics
+import sys
 import tempfile
 import threading
 import time
@@ -87,24 +92,12 @@ def upload(url: str, body: bytes, content_type: str) -> tuple[int, dict]:
         return 0, {"error": str(error)}
 
 
-def main() -> None:
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--uploads", type=int, default=200)
-    parser.add_argument("--clients", type=int, default=4)
-    parser.add_argument("--photo", choices=("jpeg", "png16"), default="jpeg")
-    args = parser.parse_args()
-
-    started = time.perf_counter()
-    photos = render_photos() if args.photo == "jpeg" else big_png16()
-    suffix = ".jpg" if args.photo == "jpeg" else ".png"
-    bodies = [multipart(photo) for photo in photos]
-    digests = [hashlib.sha256(photo).hexdigest() for photo in photos]
-    print(f"made {len(photos)} {args.photo} photo(s) "
-          f"({', '.join(f'{len(p) / 1e6:.2f} MB' for p in photos)}) in {time.perf_counter() - started:.1f} s")  # fmt: skip
-
+def run_load(python: str, bodies, digests, suffix: str, uploads: int, clients: int) -> dict:
+    """One server of the install ``python`` runs, a fresh data folder, ``uploads`` uploads from
+    ``clients`` threads; what was measured."""
     with tempfile.TemporaryDirectory() as folder:
-        server, base = start_server(Path(folder))
-        next_upload, lock = iter(range(args.uploads)), threading.Lock()
+        server, base = start_server(Path(folder), python=python)
+        next_upload, lock = iter(range(uploads)), threading.Lock()
         results = []  # (upload number, status, seconds, body)
 
         def client():
@@ -121,10 +114,10 @@ def main() -> None:
 
         try:
             begun = time.perf_counter()
-            clients = [threading.Thread(target=client) for _ in range(args.clients)]
-            for thread in clients:
+            threads = [threading.Thread(target=client) for _ in range(clients)]
+            for thread in threads:
                 thread.start()
-            for thread in clients:
+            for thread in threads:
                 thread.join()
             elapsed = time.perf_counter() - begun
             peak_mb, after_mb = memory_mb(server.pid), memory_mb(server.pid, "VmRSS")
@@ -134,27 +127,75 @@ def main() -> None:
 
         from glowtemp.logbook import Logbook
 
-        latencies = sorted(seconds for _, status, seconds, _ in results if status == 201)
-        errors = [(number, status, answer.get("error")) for number, status, _, answer in results if status != 201]
         mixed = 0
-        with Logbook(Path(folder)) as log:
+        with Logbook(Path(folder)) as log:  # read with this install's code: the schema is shared
             for number, status, _, answer in results:
                 if status == 201:
                     stored = log.get_reading(answer["id"])
-                    mixed += stored["photo_key"] != digests[number % len(photos)] + suffix
+                    mixed += stored["photo_key"] != digests[number % len(digests)] + suffix
             stored_count = log._read("SELECT COUNT(*) FROM readings")[0][0]
+    latencies = sorted(seconds for _, status, seconds, _ in results if status == 201)
+    return {
+        "elapsed": elapsed, "latencies": latencies, "peak_mb": peak_mb, "after_mb": after_mb,
+        "errors": [(number, status, answer.get("error")) for number, status, _, answer in results if status != 201],
+        "stored": stored_count, "mixed": mixed,
+    }
 
-    print(f"{args.uploads} uploads from {args.clients} concurrent clients on loopback in {elapsed:.1f} s")
-    print(f"  throughput   {args.uploads / elapsed:.2f} uploads/s ({args.uploads * sum(map(len, photos)) / len(photos) / elapsed / 1e6:.1f} MB/s)")
+
+def report(name: str, found: dict, uploads: int, clients: int, mean_bytes: float) -> None:
+    print(f"{name}: {uploads} uploads from {clients} concurrent clients on loopback in {found['elapsed']:.1f} s")
+    print(f"  throughput   {uploads / found['elapsed']:.2f} uploads/s ({uploads * mean_bytes / found['elapsed'] / 1e6:.1f} MB/s)")
+    latencies = found["latencies"]
     if latencies:
         p95 = latencies[min(len(latencies) - 1, int(round(0.95 * len(latencies))) - 1)]
         print(f"  latency      median {statistics.median(latencies):.2f} s, 95th percentile {p95:.2f} s, max {latencies[-1]:.2f} s")
-    print(f"  errors       {len(errors)} (target: none)")
-    for number, status, message in errors[:5]:
+    print(f"  errors       {len(found['errors'])} (target: none)")
+    for number, status, message in found["errors"][:5]:
         print(f"    upload {number}: HTTP {status}: {message}")
-    print(f"  stored       {stored_count} readings, {mixed} with another upload's photo (target: {args.uploads}, 0)")
-    print(f"  peak memory  {peak_mb:.0f} MB resident in the server process (VmHWM)")
-    print(f"  held after   {after_mb:.0f} MB resident once every upload was answered (VmRSS)")
+    print(f"  stored       {found['stored']} readings, {found['mixed']} with another upload's photo (target: {uploads}, 0)")
+    print(f"  peak memory  {found['peak_mb']:.0f} MB resident in the server process (VmHWM)")
+    print(f"  held after   {found['after_mb']:.0f} MB resident once every upload was answered (VmRSS)")
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--uploads", type=int, default=200)
+    parser.add_argument("--clients", type=int, default=4)
+    parser.add_argument("--photo", choices=("jpeg", "png16"), default="jpeg")
+    parser.add_argument("--compare-with", metavar="PYTHON", help="interpreter of another glowtemp install")
+    parser.add_argument("--rounds", type=int, default=2, help="alternated rounds with --compare-with (default 2)")
+    args = parser.parse_args()
+
+    started = time.perf_counter()
+    photos = render_photos() if args.photo == "jpeg" else big_png16()
+    suffix = ".jpg" if args.photo == "jpeg" else ".png"
+    bodies = [multipart(photo) for photo in photos]
+    digests = [hashlib.sha256(photo).hexdigest() for photo in photos]
+    mean_bytes = sum(map(len, photos)) / len(photos)
+    print(f"made {len(photos)} {args.photo} photo(s) "
+          f"({', '.join(f'{len(p) / 1e6:.2f} MB' for p in photos)}) in {time.perf_counter() - started:.1f} s")  # fmt: skip
+
+    if not args.compare_with:
+        found = run_load(sys.executable, bodies, digests, suffix, args.uploads, args.clients)
+        report("glowtemp serve", found, args.uploads, args.clients, mean_bytes)
+        return
+    installs = {"other install": args.compare_with, "this install": sys.executable}
+    runs = {name: [] for name in installs}
+    for round_number in range(1, args.rounds + 1):
+        for name, python in installs.items():
+            found = run_load(python, bodies, digests, suffix, args.uploads, args.clients)
+            runs[name].append(found)
+            print(f"round {round_number}, {name}: {args.uploads / found['elapsed']:.2f} uploads/s, "
+                  f"median latency {statistics.median(found['latencies'] or [float('nan')]):.2f} s, "
+                  f"{len(found['errors'])} errors, peak {found['peak_mb']:.0f} MB")
+    print(f"\nside by side, best round of {args.rounds} (the least disturbed by other work):")
+    print(f"  {'':14s} {'uploads/s':>10} {'median s':>9} {'p95 s':>7} {'errors':>7} {'peak MB':>8}")
+    for name, found_runs in runs.items():
+        best = min(found_runs, key=lambda found: found["elapsed"])
+        latencies = best["latencies"] or [float("nan")]
+        p95 = latencies[min(len(latencies) - 1, max(0, int(round(0.95 * len(latencies))) - 1))]
+        print(f"  {name:14s} {args.uploads / best['elapsed']:10.2f} {statistics.median(latencies):9.2f} {p95:7.2f} "
+              f"{sum(len(f['errors']) for f in found_runs):7d} {max(f['peak_mb'] for f in found_runs):8.0f}")
 
 
 if __name__ == "__main__":
