@@ -185,7 +185,9 @@ def population_cameras(space: RGBSpace, red_level: float, population: Population
     ratios, response = population.at_level(space.name, red_level, auto_white_balance)
     interpolate = partial(_interpolate_rows, population.temperature_k)
     ratios = np.stack([interpolate(ratios[..., 0]), interpolate(ratios[..., 1])], axis=-1)
-    variance = (MEMBER_RATIO_SIGMA * ratios) ** 2 + MEMBER_FLOOR**2
+    variance = MEMBER_RATIO_SIGMA * ratios  # then squared and floored in place: (s r)^2 + floor^2
+    variance *= variance
+    variance += MEMBER_FLOOR**2
     weights = population.weights[population.keep]
     departure = brightness_channel.RAW_DEPARTURE_SIGMA if space is LINEAR_ROMM else brightness_channel.DEPARTURE_SIGMA
     return Cameras(ratios, variance, interpolate(response), weights / weights.sum(), departure)

@@ -44,6 +44,9 @@ class TablesOnDemand(Mapping):
                 self._read[space_name] = table[self._members[space_name]]
         return self._read[space_name]
 
+    def __contains__(self, space_name) -> bool:
+        return space_name in self._members  # without reading the table
+
     @property
     def loaded(self) -> tuple:
         """The spaces whose table has been read so far."""

@@ -72,7 +72,9 @@ class Circle:
         return self.cx - self.radius, self.cy - self.radius, self.cx + self.radius + 1, self.cy + self.radius + 1
 
     def inside(self, xs, ys):
-        return (xs - self.cx) ** 2 + (ys - self.cy) ** 2 <= self.radius**2
+        # written as a comparison of the two broadcast parts, so a row and a column of whole
+        # pixel numbers give the mask without a window-sized array of squared distances
+        return (ys - self.cy) ** 2 <= self.radius**2 - (xs - self.cx) ** 2
 
     def to_text(self) -> str:
         return f"circle:{self.cx},{self.cy},{self.radius}"
@@ -210,7 +212,7 @@ def find_glow(codes: np.ndarray, linear_table: np.ndarray | None = None):
         reduced = np.sqrt(np.clip(linear_table[np.arange(3), reduced], 0.0, None)) * np.float32(255)
         full_scale = 255.0
     if reduced.ndim == 3:
-        reduced = reduced.max(axis=2)
+        reduced = np.maximum(np.maximum(reduced[..., 0], reduced[..., 1]), reduced[..., 2])
     reduced = reduced.astype(np.float32)
     small = _box_mean(reduced)
     if small.max() < DIM_FRACTION * full_scale:

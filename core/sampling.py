@@ -125,13 +125,14 @@ def _moments(channels: list) -> tuple[np.ndarray, np.ndarray]:
     the first pixel on, as numpy's ``mean(axis=0)`` and ``std(axis=0)`` of the (n, 3) array do,
     so the numbers are the same to the last bit."""
     means, deviations = [], []
-    for values in channels:
-        values = values.astype(np.float64)
-        mean = np.cumsum(values)[-1] / values.size
+    values, sums = np.empty(channels[0].size), np.empty(channels[0].size)  # reused: fresh memory is slow
+    for channel in channels:
+        np.copyto(values, channel)
+        mean = np.cumsum(values, out=sums)[-1] / values.size
         values -= mean
         values *= values
         means.append(mean)
-        deviations.append(np.sqrt(np.cumsum(values)[-1] / values.size))
+        deviations.append(np.sqrt(np.cumsum(values, out=sums)[-1] / values.size))
     return np.array(means), np.array(deviations)
 
 
