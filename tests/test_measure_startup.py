@@ -143,3 +143,18 @@ def test_no_progress_bar_means_no_tqdm_thread():
         assert set(threading.enumerate()) <= before  # no monitor thread, so workers can still fork
     finally:
         bar.close()
+
+
+def test_the_program_leaves_at_once_with_its_output_whole(jpeg_file, tmp_path):
+    # `measure` as the program skips the interpreter's teardown: what it printed and wrote
+    # must be complete all the same, and its exit status kept.
+    lines, table = tmp_path / "out.jsonl", tmp_path / "out.csv"
+    done = subprocess.run([sys.executable, "-m", "glowtemp.cli", "measure", str(jpeg_file), "--jsonl", str(lines),
+                           "--csv", str(table), "--json"], capture_output=True, text=True)
+    assert done.returncode == 0
+    printed = json.loads(done.stdout)
+    assert json.loads(lines.read_text()) == printed
+    assert table.read_text().count("\n") == 2 and str(jpeg_file) in table.read_text()
+    missing = subprocess.run([sys.executable, "-m", "glowtemp.cli", "measure", str(tmp_path / "none.jpg")],
+                             capture_output=True, text=True)
+    assert missing.returncode == 2 and "no file or folder" in missing.stderr
