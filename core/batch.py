@@ -73,10 +73,13 @@ def measure_file(path: str, region=None, profile=None, scene: str = "other") -> 
     from .region import RegionError
 
     try:
-        finish_loading = begin_loading(path)
-        from .reading import measure  # its modules load while a JPEG's pixels decode
+        loading = begin_loading(path)
+        from .estimate import read_population_tables  # while a JPEG's pixels decode: the
+        from .reading import measure  # measuring modules, and the camera prior's tables
 
-        photo = finish_loading()
+        if loading.space is not None and profile is None:
+            read_population_tables(loading.space, loading.metadata.white_balance == "auto")
+        photo = loading.finish()
         reading = measure(photo, region, photo_name=path, profile=profile, scene=scene)
     except (PhotoError, RegionError, OSError) as error:
         return Measured(path, None, getattr(error, "strerror", None) or str(error))

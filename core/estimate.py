@@ -193,6 +193,14 @@ def population_cameras(space: RGBSpace, red_level: float, population: Population
     return Cameras(ratios, variance, interpolate(response), weights / weights.sum(), departure)
 
 
+def read_population_tables(space: RGBSpace, auto_white_balance: bool = False) -> None:
+    """Read now the shipped population's tables that :func:`population_cameras` will want for a
+    photo in ``space`` (for instance while its pixels decode, :func:`glowtemp.photo.begin_loading`)."""
+    population = camera_population()
+    if population.knows(space.name, auto_white_balance):
+        population.tables(space.name, auto_white_balance)
+
+
 UNCALIBRATED = CameraTerm()  # the ideal camera with fixed spreads: for spaces the population lacks
 
 # Auto white balance pulls glow towards neutral: the camera balances for a white it guesses from

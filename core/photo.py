@@ -669,14 +669,25 @@ def load_photo(source, *, max_pixels: int = 50_000_000, max_bytes: int = LARGEST
     than ``max_pixels`` (checked from the header, before decoding) or smaller than 8 x 8. A
     named file must be a regular file of at most ``max_bytes`` (:mod:`glowtemp.regular_file`).
     """
-    return begin_loading(source, max_pixels=max_pixels, max_bytes=max_bytes)()
+    return begin_loading(source, max_pixels=max_pixels, max_bytes=max_bytes).finish()
 
 
-def begin_loading(source, *, max_pixels: int = 50_000_000, max_bytes: int = LARGEST_FILE_BYTES):
+class PhotoLoading:
+    """A photo part way through :func:`begin_loading`; :meth:`finish` returns the :class:`Photo`.
+
+    A JPEG's EXIF and colour profile are read from its header while its pixels decode, so
+    ``space`` and ``metadata`` are known before the pixels are (None for other formats).
+    """
+
+    def __init__(self, finish, space: RGBSpace | None = None, metadata: PhotoMetadata | None = None):
+        self.finish, self.space, self.metadata = finish, space, metadata
+
+
+def begin_loading(source, *, max_pixels: int = 50_000_000, max_bytes: int = LARGEST_FILE_BYTES) -> PhotoLoading:
     """:func:`load_photo` in two steps, so that a caller can do other work while the pixels of a
     JPEG decode: reads the file and checks its header (every refusal that needs no pixels is
-    raised here), starts a complete RGB JPEG's decode in a worker thread (:class:`JpegDecoding`),
-    and returns the function that finishes the load and returns the :class:`Photo`.
+    raised here), starts a complete RGB JPEG's decode in a worker thread (:class:`JpegDecoding`)
+    and reads its EXIF and colour profile meanwhile.
     """
     data = _read_bytes(source, max_bytes)
     if data[:2] in TIFF_BYTE_ORDERS:
@@ -684,47 +695,52 @@ def begin_loading(source, *, max_pixels: int = 50_000_000, max_bytes: int = LARG
 
         if is_dng(data):
             photo = load_dng(data, max_pixels)
-            return lambda: photo
+            return PhotoLoading(lambda: photo, photo.space, photo.metadata)
     image = _open(data)
     try:
         fmt = _check_image(image, max_pixels)
-        decoding = None
-        if fmt == "JPEG" and image.mode == "RGB" and complete_jpeg(data):
-            decoding = JpegDecoding(data, image.size)
+        if fmt != "JPEG":
+            return PhotoLoading(lambda: _finish_loading(image, data, fmt, None, None))
+        decoding = JpegDecoding(data, image.size) if image.mode == "RGB" and complete_jpeg(data) else None
+        header = _header(image, 255)  # a JPEG's EXIF and profile are in its header
     except BaseException:
         image.close()
         raise
-    return lambda: _finish_loading(image, data, fmt, decoding)
+    return PhotoLoading(lambda: _finish_loading(image, data, fmt, decoding, header), header[3][0], header[4])
 
 
-def _finish_loading(image: Image.Image, data: bytes, fmt: str, decoding: JpegDecoding | None) -> Photo:
+def _header(image: Image.Image, max_code: int) -> tuple:
+    """(base IFD, Exif IFD, Interoperability IFD, colour encoding, metadata) of an open image."""
+    base, exif_ifd, interop = _exif(image)
+    nclx = image.info.get("nclx_profile")  # HEIF colour information without an ICC profile
+    encoding = _colour_encoding(image.info.get("icc_profile"), exif_ifd, interop, max_code, nclx)
+    return base, exif_ifd, interop, encoding, _metadata(base, exif_ifd)
+
+
+def _finish_loading(image: Image.Image, data: bytes, fmt: str, decoding: JpegDecoding | None, header) -> Photo:
     try:
-        icc_bytes = image.info.get("icc_profile")
-        nclx = image.info.get("nclx_profile")  # HEIF colour information without an ICC profile
-        if fmt == "JPEG":
-            base, exif_ifd, interop = _exif(image)  # while the worker decodes the pixels
         codes = _pixels(image, data, fmt, decoding)
         if fmt == "PNG" and codes.dtype == np.uint16 and "exif" not in image.info:
             chunk = png_exif_chunk(data)  # libpng read the pixels: keep Pillow from loading them too
             image.info["exif"] = None if chunk is None else b"Exif\x00\x00" + chunk
-        if fmt != "JPEG":
-            base, exif_ifd, interop = _exif(image)  # after the pixels: Pillow finds PNG eXIf late
+        max_code = 65535 if codes.dtype == np.uint16 else 255
+        if header is None:
+            header = _header(image, max_code)  # after the pixels: Pillow finds PNG eXIf late
     finally:
         image.close()  # frees Pillow's pixel memory now (leaving a `with` block does not)
-    max_code = 65535 if codes.dtype == np.uint16 else 255
+    base, _, _, (space, space_source, table, problem), metadata = header
     missing = fmt == "JPEG" and ends_in_filled_blocks(codes)  # as stored, before turning upright
     orientation = base.get(TAG_ORIENTATION, 1)
     if orientation != 1:
         codes = np.ascontiguousarray(upright(codes, orientation))
     codes.flags.writeable = False
-    space, space_source, table, problem = _colour_encoding(icc_bytes, exif_ifd, interop, max_code, nclx)
     return Photo(
         codes=codes,
         max_code=max_code,
         space=space,
         space_source=space_source,
         decode_table=table,
-        metadata=_metadata(base, exif_ifd),
+        metadata=metadata,
         format=fmt,
         profile_problem=problem,
         missing_data=missing,

@@ -96,12 +96,16 @@ class Population:
     def knows(self, space_name: str, auto_white_balance: bool = False) -> bool:
         return space_name in (self.auto_ratios if auto_white_balance else self.ratios)
 
+    def tables(self, space_name: str, auto_white_balance: bool = False):
+        """The space's (ratios, log_response) tables at every level, all members (with
+        ``auto_white_balance`` the ratios of the cameras' automatic balance)."""
+        return (self.auto_ratios if auto_white_balance else self.ratios)[space_name], self.log_response[space_name]
+
     def at_level(self, space_name: str, red_level: float, auto_white_balance: bool = False):
         """Members' (ratios (m, t, 2), log_response (m, t)) at a recorded red level, linearly
         interpolated between the table's levels (held at the ends); members in use only. With
         ``auto_white_balance`` the ratios are those of the camera's automatic balance."""
-        ratios = (self.auto_ratios if auto_white_balance else self.ratios)[space_name]
-        response = self.log_response[space_name]
+        ratios, response = self.tables(space_name, auto_white_balance)
         if ratios.shape[1] == 1:
             return ratios[self.keep, 0].astype(float), response[self.keep, 0].astype(float)
         level = float(np.clip(red_level, self.red_levels[0], self.red_levels[-1]))

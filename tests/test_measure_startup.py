@@ -100,8 +100,7 @@ def decoding_threads(monkeypatch):
 
 
 def test_jpeg_pixels_decode_in_a_worker_thread(jpeg_file, decoding_threads):
-    finish = begin_loading(jpeg_file)
-    photo = finish()
+    photo = begin_loading(jpeg_file).finish()
     assert len(decoding_threads) == 1 and decoding_threads[0] is not threading.main_thread()
     # Reference: Pillow's own decode of the same file (the same libjpeg-turbo).
     from PIL import Image
@@ -110,10 +109,18 @@ def test_jpeg_pixels_decode_in_a_worker_thread(jpeg_file, decoding_threads):
         np.testing.assert_array_equal(photo.codes, np.asarray(image.convert("RGB")))
 
 
+def test_a_jpegs_colour_space_and_settings_are_known_before_its_pixels(jpeg_file):
+    loading = begin_loading(jpeg_file)
+    space, metadata = loading.space, loading.metadata
+    photo = loading.finish()
+    assert space is photo.space and metadata == photo.metadata
+    assert metadata.iso is not None  # the renderer's EXIF, read from the header
+
+
 def test_a_cut_jpeg_is_left_to_pillow_which_reports_it(jpeg_file, decoding_threads):
     data = jpeg_file.read_bytes()
     with pytest.raises(PhotoError, match="truncated or damaged"):
-        begin_loading(data[: len(data) * 3 // 4])()  # no EOI marker
+        begin_loading(data[: len(data) * 3 // 4]).finish()  # no EOI marker
     assert decoding_threads == []
 
 
