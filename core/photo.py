@@ -8,7 +8,9 @@ is then one fancy-index, ``decode_table[channel, code]``.
 Pillow reads JPEG, PNG and TIFF, their ICC profiles and EXIF. Pillow reduces 16-bit RGB to
 8 bits, so 16-bit PNG pixels are read with libpng and 16-bit TIFF pixels with tifffile (both
 with the codecs of imagecodecs); complete RGB JPEGs are decoded by libjpeg-turbo through
-imagecodecs straight into an array, which saves Pillow's copy of a 12-megapixel image. HEIC
+imagecodecs straight into an array, which saves Pillow's copy of a 12-megapixel image, and in
+a worker thread, so that the header's EXIF and profile are read meanwhile (:func:`begin_loading`
+lets a caller use that time too). HEIC
 (HEIF with HEVC, what many phones save) is read through Pillow with pillow-heif (libheif),
 which turns the image upright by the file's own transforms and keeps ICC profile and EXIF;
 raw DNG files go to :mod:`glowtemp.raw`.
@@ -42,6 +44,7 @@ import zlib
 from dataclasses import dataclass
 from datetime import datetime
 from functools import lru_cache
+from typing import NamedTuple
 
 import numpy as np
 from PIL import Image, UnidentifiedImageError
@@ -706,18 +709,25 @@ def begin_loading(source, *, max_pixels: int = 50_000_000, max_bytes: int = LARG
     except BaseException:
         image.close()
         raise
-    return PhotoLoading(lambda: _finish_loading(image, data, fmt, decoding, header), header[3][0], header[4])
+    return PhotoLoading(lambda: _finish_loading(image, data, fmt, decoding, header), header.encoding[0], header.metadata)
 
 
-def _header(image: Image.Image, max_code: int) -> tuple:
-    """(base IFD, Exif IFD, Interoperability IFD, colour encoding, metadata) of an open image."""
+class _Header(NamedTuple):
+    orientation: int
+    encoding: tuple  # (space, space_source, decode_table, profile_problem), see _colour_encoding
+    metadata: PhotoMetadata
+
+
+def _header(image: Image.Image, max_code: int) -> _Header:
+    """What an open image's EXIF and colour profile say."""
     base, exif_ifd, interop = _exif(image)
     nclx = image.info.get("nclx_profile")  # HEIF colour information without an ICC profile
     encoding = _colour_encoding(image.info.get("icc_profile"), exif_ifd, interop, max_code, nclx)
-    return base, exif_ifd, interop, encoding, _metadata(base, exif_ifd)
+    return _Header(base.get(TAG_ORIENTATION, 1), encoding, _metadata(base, exif_ifd))
 
 
-def _finish_loading(image: Image.Image, data: bytes, fmt: str, decoding: JpegDecoding | None, header) -> Photo:
+def _finish_loading(image: Image.Image, data: bytes, fmt: str, decoding: JpegDecoding | None,
+                    header: _Header | None) -> Photo:
     try:
         codes = _pixels(image, data, fmt, decoding)
         if fmt == "PNG" and codes.dtype == np.uint16 and "exif" not in image.info:
@@ -728,11 +738,10 @@ def _finish_loading(image: Image.Image, data: bytes, fmt: str, decoding: JpegDec
             header = _header(image, max_code)  # after the pixels: Pillow finds PNG eXIf late
     finally:
         image.close()  # frees Pillow's pixel memory now (leaving a `with` block does not)
-    base, _, _, (space, space_source, table, problem), metadata = header
+    space, space_source, table, problem = header.encoding
     missing = fmt == "JPEG" and ends_in_filled_blocks(codes)  # as stored, before turning upright
-    orientation = base.get(TAG_ORIENTATION, 1)
-    if orientation != 1:
-        codes = np.ascontiguousarray(upright(codes, orientation))
+    if header.orientation != 1:
+        codes = np.ascontiguousarray(upright(codes, header.orientation))
     codes.flags.writeable = False
     return Photo(
         codes=codes,
@@ -740,7 +749,7 @@ def _finish_loading(image: Image.Image, data: bytes, fmt: str, decoding: JpegDec
         space=space,
         space_source=space_source,
         decode_table=table,
-        metadata=metadata,
+        metadata=header.metadata,
         format=fmt,
         profile_problem=problem,
         missing_data=missing,
