@@ -187,7 +187,8 @@ def main() -> None:
             runs[name].append(found)
             print(f"round {round_number}, {name}: {args.uploads / found['elapsed']:.2f} uploads/s, "
                   f"median latency {statistics.median(found['latencies'] or [float('nan')]):.2f} s, "
-                  f"{len(found['errors'])} errors, peak {found['peak_mb']:.0f} MB")
+                  f"{len(found['errors'])} errors, {found['stored']} stored ({found['mixed']} with another "
+                  f"upload's photo), peak {found['peak_mb']:.0f} MB")
     print(f"\nside by side, best round of {args.rounds} (the least disturbed by other work):")
     print(f"  {'':14s} {'uploads/s':>10} {'median s':>9} {'p95 s':>7} {'errors':>7} {'peak MB':>8}")
     for name, found_runs in runs.items():
