@@ -7,7 +7,7 @@ matrices). Both are decoded and measured like any user photo, uncalibrated and w
 profile fitted on three pairs (800, 1050 and 1300 °C, type K class 2 reference errors). Raw
 profiles are fitted on the raw photos' own green/red (raw and JPEG need separate profiles).
 
-The first section also sizes the raw camera term (glowtemp.raw.RAW_UNCALIBRATED): noise-free
+The first section also sizes the raw camera term (glowtemp.estimate.RAW_UNCALIBRATED): noise-free
 raw green/red against the ideal one, fitted as offset + gain x ideal per camera.
 
 Run: python bench/raw_vs_jpeg.py [--quick]
@@ -24,7 +24,8 @@ import numpy as np
 from glowtemp.colourspaces import SRGB
 from glowtemp.photo import load_photo
 from glowtemp.profile import Pair, fit_ratio_map, ideal_green_ratio, pair_green_ratio, thermocouple_sigma_c
-from glowtemp.raw import RAW_SPACE, uncalibrated_term
+from glowtemp.estimate import uncalibrated_term
+from glowtemp.raw import RAW_SPACE
 from glowtemp.reading import measure
 from glowtemp.region import Rectangle
 from glowtemp.sampling import region_statistics

@@ -11,15 +11,15 @@ Lower panel: the climb rate between consecutive estimates, as steps, shaded over
 bands as :func:`glowtemp.curve.step_rate_band_c_per_h` does after GUM 5.1.2).
 
 matplotlib is imported when a chart is drawn, so nothing else pays its start-up time. Only
-the object-oriented API is used (no pyplot state), and drawing is serialised by a lock
-because matplotlib's text and font caches are shared between threads.
+the object-oriented API is used (no pyplot state), and drawing is serialised by the lock
+that every chart shares (:data:`glowtemp.tilemap_chart.DRAWING_LOCK`): matplotlib's text and
+font caches are shared between threads.
 """
 
 from __future__ import annotations
 
 import io
 import math
-import threading
 from dataclasses import dataclass
 
 from .cones import cone_table
@@ -33,6 +33,7 @@ from .curve import (
     step_rate_band_c_per_h,
 )
 from .scales import celsius_to_fahrenheit
+from .tilemap_chart import DRAWING_LOCK, LITERAL_TEXT
 
 ESTIMATE_COLOUR = "#8c3b12"
 BAND95_COLOUR = "#f4c59b"
@@ -47,11 +48,6 @@ RATE_BAND_COLOUR = "#d8c8b4"
 RATE_BAND_GID = "climb-band"  # the band's id in the SVG
 FIGURE_SIZE_IN = (7.0, 5.2)  # the PNG, for a screen or paper
 WEB_FIGURE_SIZE_IN = (4.6, 5.0)  # the SVG, sized so its text stays readable on a phone
-
-_drawing = threading.Lock()
-# Names come from people ("$5 glaze", a cone "$6"): matplotlib would read text between dollar
-# signs as mathtext (matplotlib docs, "Writing mathematical expressions"); draw it literally.
-LITERAL_TEXT = {"text.parse_math": False}
 
 
 @dataclass(frozen=True)
@@ -213,7 +209,7 @@ def firing_chart_svg(points: list[CurvePoint], target_c=None, target_label=None,
     """The curve as an SVG element (no XML prolog), ready to place in a page."""
     import matplotlib
 
-    with _drawing, matplotlib.rc_context({"svg.fonttype": "none", "svg.hashsalt": "glowtemp-curve", **LITERAL_TEXT}):
+    with DRAWING_LOCK, matplotlib.rc_context({"svg.fonttype": "none", "svg.hashsalt": "glowtemp-curve", **LITERAL_TEXT}):
         text = _render(_figure(points, target_c, target_label, unit, title, WEB_FIGURE_SIZE_IN), "svg").decode("utf-8")
     return text[text.index("<svg"):]
 
@@ -222,7 +218,7 @@ def firing_chart_png(points: list[CurvePoint], target_c=None, target_label=None,
     """The curve as a PNG image."""
     import matplotlib
 
-    with _drawing, matplotlib.rc_context(LITERAL_TEXT):
+    with DRAWING_LOCK, matplotlib.rc_context(LITERAL_TEXT):
         return _render(_figure(points, target_c, target_label, unit, title), "png")
 
 

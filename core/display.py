@@ -1,6 +1,6 @@
 """A photo's pixels as display colour: linear light taken to sRGB and encoded for a screen.
 
-The codes are decoded to linear light (:meth:`glowtemp.photo.Photo.linear`), taken from the
+The codes are decoded to linear light (:meth:`glowtemp.decoded.Photo.linear`), taken from the
 photo's RGB space to linear sRGB through CIE XYZ, clipped to the sRGB gamut and encoded with
 the sRGB transfer function through a fine table. Raw photos are linear light at the sensor's
 exposure with no tone curve; they are scaled so the bright glow (the 99.5th percentile of the

@@ -41,7 +41,7 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from functools import lru_cache, partial
 
 import numpy as np
@@ -50,6 +50,7 @@ from . import brightness as brightness_channel
 from .colourspaces import LINEAR_ROMM, SRGB, RGBSpace, srgb_encode
 from .locus import TABLE_MIN_K, TABLE_STEP_K, blackbody_table, locus_ratios
 from .population import Population, camera_population
+from .raw import RAW_SPACE
 
 GRID_K = np.arange(700.0, 2400.0 + 1.0, 2.0)  # the posterior's grid
 POOR_FIT_P = 0.01  # below this p-value the variances are scaled (PDG scale factor)
@@ -202,6 +203,28 @@ def read_population_tables(space: RGBSpace, auto_white_balance: bool = False) ->
 
 
 UNCALIBRATED = CameraTerm()  # the ideal camera with fixed spreads: for spaces the population lacks
+
+# Uncalibrated camera term for raw photos. A DNG's matrix is fitted on a colour chart, not on
+# glow, so a camera's recorded green/red is offset + gain x ideal, like a JPEG's (see
+# CameraTerm above). Offsets and gains of the benchmark cameras (colour-science's
+# two NPL-measured cameras and parametric ones, bench/raw_vs_jpeg.py) pivot about a green/red
+# near 0.45 (about 1500 °C): second moments about (0, 1) give these spreads and correlation;
+# the scatter about each camera's straight line stayed below 0.012.
+RAW_OFFSET_SIGMA = 0.041
+RAW_GAIN_SIGMA = 0.083
+RAW_OFFSET_GAIN_CORRELATION = -0.94
+RAW_SCATTER = 0.008
+_COVARIANCE = RAW_OFFSET_GAIN_CORRELATION * RAW_OFFSET_SIGMA * RAW_GAIN_SIGMA
+RAW_UNCALIBRATED = CameraTerm(
+    ratio_sigma=0.0,
+    green_floor=RAW_SCATTER,
+    offset_gain_covariance=((RAW_OFFSET_SIGMA**2, _COVARIANCE), (_COVARIANCE, RAW_GAIN_SIGMA**2)),
+)
+
+
+def uncalibrated_term(photo) -> CameraTerm:
+    """The camera term to use without a profile: the raw one for DNG photos, else the default."""
+    return RAW_UNCALIBRATED if photo.space is RAW_SPACE else UNCALIBRATED
 
 # Auto white balance pulls glow towards neutral: the camera balances for a white it guesses from
 # the frame. The population carries that for its members (glowtemp.population_build); a single

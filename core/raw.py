@@ -46,7 +46,7 @@ References
   by inverse correlated colour temperature).
 - ISO 22028-2:2013, Reference output medium metric RGB (ROMM RGB): primaries and D50 white.
 - CIPA DC-008-2019 (Exif 2.32), LightSource codes used by CalibrationIlluminant, and the
-  exposure tags read by :func:`glowtemp.photo.exposure_fields`.
+  exposure tags read by :func:`glowtemp.decoded.exposure_fields`.
 - D. Coffin, dcraw.c, ``adobe_coeff`` camera table (XYZ to camera matrices for CIE D65).
 - ISO 12234-2:2001 (TIFF/EP): CFARepeatPatternDim and CFAPattern.
 """
@@ -59,8 +59,7 @@ import struct
 import numpy as np
 
 from .colourspaces import LINEAR_ROMM
-from .estimate import UNCALIBRATED, CameraTerm
-from .photo import (
+from .decoded import (
     MIN_SIDE_PX,
     Photo,
     PhotoError,
@@ -331,7 +330,7 @@ def dng_metadata(tags: dict) -> PhotoMetadata:
     ``white_balance`` is ``"none"``: glowtemp applies no white balance to raw data.
     ``baseline_exposure_ev`` is BaselineExposure (DNG 1.6), None when missing or beyond
     :data:`BASELINE_EXPOSURE_LIMIT_EV`; the exposure fields are as for other photos
-    (:func:`glowtemp.photo.exposure_fields`).
+    (:func:`glowtemp.decoded.exposure_fields`).
     """
     baseline = _value(tags.get(TAG_BASELINE_EXPOSURE))
     return PhotoMetadata(
@@ -345,7 +344,7 @@ def dng_metadata(tags: dict) -> PhotoMetadata:
 
 
 def load_dng(data: bytes, max_pixels: int) -> Photo:
-    """Decode a DNG to a :class:`glowtemp.photo.Photo` in :data:`RAW_SPACE` (see the module notes)."""
+    """Decode a DNG to a :class:`glowtemp.decoded.Photo` in :data:`RAW_SPACE` (see the module notes)."""
     tags, (width, height) = read_dng_header(data)
     if width * height > max_pixels:
         raise RawError(
@@ -370,26 +369,3 @@ def load_dng(data: bytes, max_pixels: int) -> Photo:
         matrix_illuminant_unstated=illuminant_unstated(tags),
         linear_scale=scale,
     )
-
-
-# Uncalibrated camera term for raw photos. A DNG's matrix is fitted on a colour chart, not on
-# glow, so a camera's recorded green/red is offset + gain x ideal, like a JPEG's (see
-# glowtemp.estimate.CameraTerm). Offsets and gains of the benchmark cameras (colour-science's
-# two NPL-measured cameras and parametric ones, bench/raw_vs_jpeg.py) pivot about a green/red
-# near 0.45 (about 1500 °C): second moments about (0, 1) give these spreads and correlation;
-# the scatter about each camera's straight line stayed below 0.012.
-RAW_OFFSET_SIGMA = 0.041
-RAW_GAIN_SIGMA = 0.083
-RAW_OFFSET_GAIN_CORRELATION = -0.94
-RAW_SCATTER = 0.008
-_COVARIANCE = RAW_OFFSET_GAIN_CORRELATION * RAW_OFFSET_SIGMA * RAW_GAIN_SIGMA
-RAW_UNCALIBRATED = CameraTerm(
-    ratio_sigma=0.0,
-    green_floor=RAW_SCATTER,
-    offset_gain_covariance=((RAW_OFFSET_SIGMA**2, _COVARIANCE), (_COVARIANCE, RAW_GAIN_SIGMA**2)),
-)
-
-
-def uncalibrated_term(photo) -> CameraTerm:
-    """The camera term to use without a profile: the raw one for DNG photos, else the default."""
-    return RAW_UNCALIBRATED if photo.space is RAW_SPACE else UNCALIBRATED

@@ -23,10 +23,11 @@ from .estimate import (
     population_cameras,
     auto_white_balance_factors,
     refused,
+    uncalibrated_term,
 )
 from .locus import blackbody_swatch_hex
 from .population import Population
-from .raw import RAW_SPACE, uncalibrated_term
+from .raw import RAW_SPACE
 from .region import find_glow
 from .sampling import RegionStatistics, region_statistics
 from .scales import (
@@ -272,7 +273,7 @@ def measure(
     scene: str = DEFAULT_SCENE,
     prior: Population | None = None,
 ) -> Reading:
-    """Measure one decoded photo (:class:`glowtemp.photo.Photo`) in ``region`` (found when None).
+    """Measure one decoded photo (:class:`glowtemp.decoded.Photo`) in ``region`` (found when None).
 
     Without ``camera`` the camera population is the prior (at the photo's recorded red level).
     With a :class:`glowtemp.profile.CameraProfile` the camera's own fitted map replaces it

@@ -137,7 +137,7 @@ def _moments(channels: list) -> tuple[np.ndarray, np.ndarray]:
 
 
 def region_statistics(photo, region) -> RegionStatistics:
-    """Mask a region of ``photo`` (a :class:`glowtemp.photo.Photo`) and summarise its usable pixels."""
+    """Mask a region of ``photo`` (a :class:`glowtemp.decoded.Photo`) and summarise its usable pixels."""
     rows, cols, inside = region_window(region, photo.width, photo.height)
     step = int(np.ceil(np.sqrt(inside.sum() / MAX_SAMPLE_PIXELS)))  # 1 unless the region is large
     window, inside = photo.codes[rows, cols][::step, ::step], inside[::step, ::step]

@@ -44,7 +44,7 @@ from PIL.TiffImagePlugin import IFDRational
 from .colourspaces import DISPLAY_P3, SRGB, RGBSpace, srgb_decode, srgb_encode
 from .icc import build_matrix_profile
 from .locus import blackbody_xyz, colour_matching_functions
-from .photo import SENSITIVITY_TYPE_SOS
+from .decoded import SENSITIVITY_TYPE_SOS
 from .synthetic_camera import (
     DAYLIGHT_ILLUMINANT,
     RAW_TABLE_MIN_K,

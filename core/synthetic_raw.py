@@ -39,7 +39,7 @@ import numpy as np
 import tifffile
 
 from .locus import colour_matching_functions
-from .photo import SENSITIVITY_TYPE_SOS
+from .decoded import SENSITIVITY_TYPE_SOS
 from .synthetic import (
     DEFAULT_TAKEN_AT,
     FULL_WELL_ELECTRONS,

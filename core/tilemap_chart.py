@@ -25,6 +25,10 @@ import numpy as np
 
 from .display import display_srgb
 
+# Names come from people ("$5 glaze", a cone "$6"): matplotlib would read text between dollar
+# signs as mathtext (matplotlib docs, "Writing mathematical expressions"); draw it literally.
+LITERAL_TEXT = {"text.parse_math": False}
+
 COLOUR_MAP = "inferno"
 TILE_ALPHA = 0.62
 MARGIN = 0.3  # of the region's size, shown around it
@@ -32,7 +36,8 @@ DISPLAY_SIDE_PX = 640  # the photo is reduced to about this long side for drawin
 FIGURE_WIDTH_IN = 6.4
 HOTTEST_COLOUR, COOLEST_COLOUR = "#ffffff", "#35c4ff"
 
-_drawing = threading.Lock()
+# matplotlib's text and font caches are shared by every chart: one lock serialises all drawing.
+DRAWING_LOCK = threading.Lock()
 
 
 def _unit(unit: str):
@@ -139,9 +144,8 @@ def draw_map(photo, tile_map, unit: str = "C", image_format: str = "png", title:
         raise ValueError(f"The map can be drawn as png or svg, not {image_format!r}.")
     import matplotlib
 
-    from .curve_chart import LITERAL_TEXT
 
-    with _drawing, matplotlib.rc_context(LITERAL_TEXT):
+    with DRAWING_LOCK, matplotlib.rc_context(LITERAL_TEXT):
         figure = _figure(photo, tile_map, unit, title)
         out = io.BytesIO()
         figure.savefig(out, format=image_format, dpi=120)

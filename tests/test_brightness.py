@@ -9,7 +9,7 @@ import pytest
 from glowtemp import brightness
 from glowtemp.colourspaces import SRGB
 from glowtemp.estimate import GRID_K, UNCALIBRATED, brightness_observation, estimate_temperature
-from glowtemp.photo import PhotoMetadata
+from glowtemp.decoded import PhotoMetadata
 
 
 def test_exposure_scale_is_iso_12232_standard_output_sensitivity_worked_by_hand():

@@ -10,12 +10,11 @@ import pytest
 import rawpy
 import tifffile
 
-from glowtemp.estimate import UNCALIBRATED
+from glowtemp.estimate import RAW_UNCALIBRATED, UNCALIBRATED, uncalibrated_term
 from glowtemp.photo import PhotoError, load_photo, upright
 from glowtemp.profile import Pair, fit_profile
 from glowtemp.raw import (
     RAW_SPACE,
-    RAW_UNCALIBRATED,
     RawError,
     decode_table,
     dng_metadata,
@@ -23,7 +22,6 @@ from glowtemp.raw import (
     illuminant_unstated,
     read_dng_header,
     superpixel,
-    uncalibrated_term,
     xyz_to_camera,
 )
 from glowtemp.reading import measure

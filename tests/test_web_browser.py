@@ -28,6 +28,20 @@ def shown_value(page) -> str:
     return re.sub(r"\s+", " ", page.inner_text("#reading-value")).strip()
 
 
+def recorded_answers(page, part: str) -> list:
+    """JSON answers to the page's requests whose URL holds ``part``, read here as they pass: the
+    browser may drop a body once the page has moved on, so reading it afterwards can fail."""
+    answers = []
+
+    def relay(route):
+        response = route.fetch()
+        answers.append(response.json())
+        route.fulfill(response=response)
+
+    page.route(lambda url: part in url, relay)
+    return answers
+
+
 def touch_drag(page, start, end, steps=8):
     """A one-finger drag through the DevTools protocol's touch events."""
     session = page.context.new_cdp_session(page)
@@ -108,12 +122,13 @@ def test_dragging_the_region_measures_again(live_server, browser_page, artifacts
     centre_x, centre_y = shape["x"] + shape["width"] / 2, shape["y"] + shape["height"] / 2
     # The finder chose the hotter right half; drag the outline onto the cooler left half.
     assert centre_x > overlay["x"] + overlay["width"] / 2
-    with page.expect_response(lambda r: "/region" in r.url) as answer:
+    answers = recorded_answers(page, "/region")
+    with page.expect_response(lambda r: "/region" in r.url):
         page.mouse.move(centre_x, centre_y)
         page.mouse.down()
         page.mouse.move(overlay["x"] + overlay["width"] * 0.25, centre_y, steps=8)
         page.mouse.up()
-    moved = answer.value.json()
+    moved = answers[-1]
     # an arrow function, not a bare expression: Playwright evaluates expressions with eval,
     # which the page's Content-Security-Policy refuses whenever the first check is false
     page.wait_for_function("() => document.getElementById('region-status').textContent.includes('again')")
@@ -126,21 +141,21 @@ def test_dragging_the_region_measures_again(live_server, browser_page, artifacts
     shape = page.locator("#overlay .shape").bounding_box()
     start = (shape["x"] + shape["width"] / 2, shape["y"] + shape["height"] / 2)
     end = (overlay["x"] + overlay["width"] * 0.75, start[1] + 40)  # down a little, as a thumb moves
-    with page.expect_response(lambda r: "/region" in r.url) as answer:
+    with page.expect_response(lambda r: "/region" in r.url):
         touch_drag(page, start, end)
-    back = answer.value.json()
+    back = answers[-1]
     assert back["temperature_c"] > moved["temperature_c"]
     moved = back
 
     # Resize with the round handle: the region sent grows.
     handle = page.locator("#overlay .handle-ring").bounding_box()
     hx, hy = handle["x"] + handle["width"] / 2, handle["y"] + handle["height"] / 2
-    with page.expect_response(lambda r: "/region" in r.url) as answer:
+    with page.expect_response(lambda r: "/region" in r.url):
         page.mouse.move(hx, hy)
         page.mouse.down()
         page.mouse.move(hx + 25, hy + 25, steps=5)
         page.mouse.up()
-    grown = answer.value.json()["region"]
+    grown = answers[-1]["region"]
     before = moved["region"]
     size = lambda r: r.get("radius") or r["width"] * r["height"]  # noqa: E731
     assert grown["kind"] == before["kind"] and size(grown) > size(before)
