@@ -1,6 +1,6 @@
 """Accuracy of glowtemp on held-out cameras: uncalibrated (leave one maker out) and calibrated.
 
-Every photo comes from glowtemp.heldout: one maker's sensors (that maker left out of the camera
+Every photo comes from glowtemp.render.heldout: one maker's sensors (that maker left out of the camera
 prior, with the prior's counterpart of the photo's tone curve), a colour matrix fitted on
 another chart under another illuminant, white-balance preset error, saturation, a camera whose
 sensitivity departs from its ISO rating, auto exposure, noise, 4:2:0 JPEG. A spy hole (kiln,
@@ -26,10 +26,10 @@ from dataclasses import replace
 
 import numpy as np
 
-from glowtemp.heldout import MAKERS, RENDER_CURVES, held_out_camera, held_out_photo, maker_sensors, prior_without
-from glowtemp.profile import CURIE_POINT_IRON_C, MAGNET_SIGMA_C, Pair, fit_profile, thermocouple_sigma_c
-from glowtemp.profile_store import pair_channels, camera_settings
-from glowtemp.reading import measure
+from glowtemp.render.heldout import MAKERS, RENDER_CURVES, held_out_camera, held_out_photo, maker_sensors, prior_without
+from glowtemp.estimation.profile import CURIE_POINT_IRON_C, MAGNET_SIGMA_C, Pair, fit_profile, thermocouple_sigma_c
+from glowtemp.estimation.profile_store import pair_channels, camera_settings
+from glowtemp.estimation.reading import measure
 
 CURVES = list(RENDER_CURVES)
 SCENE_KINDS = ("kiln", "steel")

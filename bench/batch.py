@@ -20,7 +20,7 @@ import tempfile
 import time
 from pathlib import Path
 
-from glowtemp.batch import collect_photos, measure_many, start_method
+from glowtemp.shell.batch import collect_photos, measure_many, start_method
 
 SIZE = (4000, 3000)  # 12 megapixels, as many phones save
 TARGET_SPEED_UP = 1.9
@@ -28,8 +28,8 @@ TARGET_SPEED_UP = 1.9
 
 def make_photos(folder: Path, count: int) -> list[str]:
     # imported here: worker processes re-import this script, and need no renderer
-    from glowtemp.synthetic import encode_jpeg, render_photo
-    from glowtemp.synthetic_camera import CAMERAS
+    from glowtemp.render.synthetic import encode_jpeg, render_photo
+    from glowtemp.render.synthetic_camera import CAMERAS
 
     cameras = list(CAMERAS.values())
     originals = []

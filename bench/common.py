@@ -18,8 +18,8 @@ def render_12mp_photo(path: Path) -> None:
     """
     script = (
         "import sys\n"
-        "from glowtemp.synthetic import encode_jpeg, render_photo\n"
-        "from glowtemp.synthetic_camera import CAMERAS\n"
+        "from glowtemp.render.synthetic import encode_jpeg, render_photo\n"
+        "from glowtemp.render.synthetic_camera import CAMERAS\n"
         "photo = render_photo(1273.15, camera=CAMERAS['Nikon 5100 (NPL)'], size=(4000, 3000), seed=2, iso=1600)\n"
         "open(sys.argv[1], 'wb').write(encode_jpeg(photo))\n"
     )
@@ -29,7 +29,7 @@ def render_12mp_photo(path: Path) -> None:
 def start_server(data_dir: Path, *extra: str, python: str = sys.executable):
     """Start ``glowtemp serve`` (of the install ``python`` runs) on a free loopback port;
     returns (process, base URL)."""
-    command = [python, "-m", "glowtemp.cli", "serve", "--port", "0", "--data", str(data_dir), *extra]
+    command = [python, "-m", "glowtemp.shell.cli", "serve", "--port", "0", "--data", str(data_dir), *extra]
     server = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
     for line in server.stdout:
         if line.startswith("Open "):

@@ -1,7 +1,7 @@
 """Decoding time and memory of a real 12-megapixel phone HEIC (tests/data/real/phone-b.heic).
 
 Each run is a fresh process, alternating so machine noise hits all alike: the imports alone
-(glowtemp.photo and pillow-heif), a bare libheif decode through pillow-heif of the primary
+(glowtemp.images.photo and pillow-heif), a bare libheif decode through pillow-heif of the primary
 image, and glowtemp's ``load_photo`` (decode, ICC profile, EXIF, upright codes). Each child
 times its own decode (imports excluded); the parent reads each child's peak resident memory
 (ru_maxrss via wait4). Prints medians of time and the largest peak.
@@ -18,14 +18,14 @@ import subprocess
 import sys
 from pathlib import Path
 
-from glowtemp.photo import load_photo
+from glowtemp.images.photo import load_photo
 
 DEFAULT_PHOTO = Path(__file__).resolve().parent.parent / "tests" / "data" / "real" / "phone-b.heic"
 
 PRELUDE = (
     "import sys, time\n"
     "import numpy as np, pillow_heif\n"
-    "from glowtemp.photo import load_photo\n"
+    "from glowtemp.images.photo import load_photo\n"
     "data = open(sys.argv[1], 'rb').read()\n"
     "started = time.perf_counter()\n"
 )

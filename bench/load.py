@@ -5,7 +5,7 @@ invented glowing disc on a dark ground, about 300 KB since it is flat), the case
 the server's memory per upload (glowtemp.web.decode_gate); run it with ``--uploads 8``.
 
 Renders two 12 MP spy-hole photos (invented scenes at 1000 and 1150 °C, ISO 1600 so sensor noise
-gives the JPEGs a phone-like size) with glowtemp.synthetic, starts `glowtemp serve` in its own
+gives the JPEGs a phone-like size) with glowtemp.render.synthetic, starts `glowtemp serve` in its own
 process on 127.0.0.1 with a fresh data folder, and has 4 client threads post the photos to
 POST /api/readings in turn until 200 uploads are done. Prints throughput, median and
 95th-percentile latency, errors (target: none), the peak memory of the server process (VmHWM
@@ -45,9 +45,9 @@ REQUEST_TIMEOUT_S = 300
 
 
 def render_photos() -> list[bytes]:
-    from glowtemp.scales import celsius_to_kelvin
-    from glowtemp.synthetic import encode_jpeg, render_photo
-    from glowtemp.synthetic_camera import CAMERAS
+    from glowtemp.estimation.scales import celsius_to_kelvin
+    from glowtemp.render.synthetic import encode_jpeg, render_photo
+    from glowtemp.render.synthetic_camera import CAMERAS
 
     camera = CAMERAS["Nikon 5100 (NPL)"]
     return [encode_jpeg(render_photo(celsius_to_kelvin(t), camera=camera, size=PHOTO_SIZE, seed=n, iso=1600))
@@ -125,7 +125,7 @@ def run_load(python: str, bodies, digests, suffix: str, uploads: int, clients: i
             server.terminate()
             server.wait(timeout=30)
 
-        from glowtemp.logbook import Logbook
+        from glowtemp.firinglog.logbook import Logbook
 
         mixed = 0
         with Logbook(Path(folder)) as log:  # read with this install's code: the schema is shared

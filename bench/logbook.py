@@ -16,12 +16,12 @@ import time
 from datetime import datetime, timedelta, timezone
 from pathlib import Path
 
-from glowtemp.bundle import import_bundle, write_bundle
-from glowtemp.curve_chart import draw_firing
-from glowtemp.logbook import Logbook
-from glowtemp.logbook_csv import firing_csv
-from glowtemp.photo import load_photo
-from glowtemp.reading import measure
+from glowtemp.firinglog.bundle import import_bundle, write_bundle
+from glowtemp.firinglog.curve_chart import draw_firing
+from glowtemp.firinglog.logbook import Logbook
+from glowtemp.firinglog.logbook_csv import firing_csv
+from glowtemp.images.photo import load_photo
+from glowtemp.estimation.reading import measure
 from glowtemp.web import create_app
 
 DEMO_PHOTO = Path(__file__).resolve().parent.parent / "demo_images" / "alder_lane_1100_870C.jpg"

@@ -7,7 +7,7 @@ matrices). Both are decoded and measured like any user photo, uncalibrated and w
 profile fitted on three pairs (800, 1050 and 1300 °C, type K class 2 reference errors). Raw
 profiles are fitted on the raw photos' own green/red (raw and JPEG need separate profiles).
 
-The first section also sizes the raw camera term (glowtemp.estimate.RAW_UNCALIBRATED): noise-free
+The first section also sizes the raw camera term (glowtemp.estimation.estimate.RAW_UNCALIBRATED): noise-free
 raw green/red against the ideal one, fitted as offset + gain x ideal per camera.
 
 Run: python bench/raw_vs_jpeg.py [--quick]
@@ -21,18 +21,18 @@ import time
 
 import numpy as np
 
-from glowtemp.colourspaces import SRGB
-from glowtemp.photo import load_photo
-from glowtemp.profile import Pair, fit_ratio_map, ideal_green_ratio, pair_green_ratio, thermocouple_sigma_c
-from glowtemp.estimate import uncalibrated_term
-from glowtemp.raw import RAW_SPACE
-from glowtemp.reading import measure
-from glowtemp.region import Rectangle
-from glowtemp.sampling import region_statistics
-from glowtemp.scales import celsius_to_kelvin
-from glowtemp.synthetic import encode_jpeg, render_photo
-from glowtemp.synthetic_camera import CAMERAS, parametric_camera
-from glowtemp.synthetic_raw import encode_dng, render_raw
+from glowtemp.physics.colourspaces import SRGB
+from glowtemp.images.photo import load_photo
+from glowtemp.estimation.profile import Pair, fit_ratio_map, ideal_green_ratio, pair_green_ratio, thermocouple_sigma_c
+from glowtemp.estimation.estimate import uncalibrated_term
+from glowtemp.images.raw import RAW_SPACE
+from glowtemp.estimation.reading import measure
+from glowtemp.images.region import Rectangle
+from glowtemp.images.sampling import region_statistics
+from glowtemp.estimation.scales import celsius_to_kelvin
+from glowtemp.render.synthetic import encode_jpeg, render_photo
+from glowtemp.render.synthetic_camera import CAMERAS, parametric_camera
+from glowtemp.render.synthetic_raw import encode_dng, render_raw
 
 PHONE_LIKE = parametric_camera("Parametric phone-like", (605, 535, 460), (38, 36, 30))  # as bench/accuracy.py
 BENCH_CAMERAS = {**CAMERAS, PHONE_LIKE.name: PHONE_LIKE}

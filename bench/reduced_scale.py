@@ -36,10 +36,10 @@ SHOWN = ("status", "temperature_c", "interval_68_c", "interval_95_c", "upper_bou
 
 def photos(count: int):
     """(name, JPEG bytes, scene) of the 12 MP photos."""
-    from glowtemp.heldout import MAKERS, held_out_camera, maker_sensors
-    from glowtemp.heldout import SCENE_KINDS
-    from glowtemp.synthetic import encode_jpeg, render_photo
-    from glowtemp.synthetic_camera import CAMERAS
+    from glowtemp.render.heldout import MAKERS, held_out_camera, maker_sensors
+    from glowtemp.render.heldout import SCENE_KINDS
+    from glowtemp.render.synthetic import encode_jpeg, render_photo
+    from glowtemp.render.synthetic_camera import CAMERAS
 
     rendered = render_photo(1273.15, camera=CAMERAS["Nikon 5100 (NPL)"], size=(4000, 3000), seed=2, iso=1600)
     yield "12mp-spy-hole", encode_jpeg(rendered), "other"
@@ -59,7 +59,7 @@ def shown(reading) -> dict:
 
 
 def scaled_region(region, factor: int):
-    from glowtemp.region import Circle, Rectangle
+    from glowtemp.images.region import Circle, Rectangle
 
     if isinstance(region, Circle):
         return Circle(round(region.cx / factor), round(region.cy / factor), max(1, round(region.radius / factor)))
@@ -80,8 +80,8 @@ def block_means(codes: np.ndarray, factor: int) -> np.ndarray:
 
 
 def main(argv=None):
-    from glowtemp.photo import load_photo
-    from glowtemp.reading import find_region, measure
+    from glowtemp.images.photo import load_photo
+    from glowtemp.estimation.reading import find_region, measure
 
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--photos", type=int, default=6)

@@ -30,9 +30,9 @@ DEMO_FOLDER = Path(__file__).resolve().parent.parent / "demo_images"
 
 def cases(quick: bool):
     """(name, photo, measure keyword arguments) for every reading of the set."""
-    from glowtemp.estimate import CameraTerm
-    from glowtemp.heldout import MAKERS, RENDER_CURVES, held_out_camera, held_out_photo, maker_sensors, prior_without
-    from glowtemp.photo import load_photo
+    from glowtemp.estimation.estimate import CameraTerm
+    from glowtemp.render.heldout import MAKERS, RENDER_CURVES, held_out_camera, held_out_photo, maker_sensors, prior_without
+    from glowtemp.images.photo import load_photo
 
     curves = list(RENDER_CURVES)
     temperatures = range(550, 1351, 100)
@@ -61,10 +61,10 @@ def cases(quick: bool):
 
 def large_cases(quick: bool):
     """12-megapixel photos: the benchmark spy hole and held-out cameras at 4000 x 3000."""
-    from glowtemp.heldout import MAKERS, held_out_camera, held_out_photo, maker_sensors
-    from glowtemp.photo import load_photo
-    from glowtemp.synthetic import encode_jpeg, render_photo
-    from glowtemp.synthetic_camera import CAMERAS
+    from glowtemp.render.heldout import MAKERS, held_out_camera, held_out_photo, maker_sensors
+    from glowtemp.images.photo import load_photo
+    from glowtemp.render.synthetic import encode_jpeg, render_photo
+    from glowtemp.render.synthetic_camera import CAMERAS
 
     rendered = render_photo(1273.15, camera=CAMERAS["Nikon 5100 (NPL)"], size=(4000, 3000), seed=2, iso=1600)
     yield "12mp-spy-hole", load_photo(encode_jpeg(rendered)), {}
@@ -78,7 +78,7 @@ def large_cases(quick: bool):
 
 
 def readings(quick: bool) -> dict:
-    from glowtemp.reading import measure
+    from glowtemp.estimation.reading import measure
 
     found = {}
     for name, photo, options in cases(quick):

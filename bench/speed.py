@@ -60,7 +60,7 @@ def main(argv=None):
             "interpreter start": [sys.executable, "-c", "pass"],
             "bare Pillow decode": [sys.executable, "-c",
                                    f"from PIL import Image; Image.open({str(photo)!r}).load()"],
-            **{name: [python, "-m", "glowtemp.cli", "measure", str(photo), "--json"]
+            **{name: [python, "-m", "glowtemp.shell.cli", "measure", str(photo), "--json"]
                for name, python in pythons.items()},
         }
         results = {name: [] for name in commands}

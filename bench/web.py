@@ -55,7 +55,7 @@ STOPWATCH = """() => {
 
 def time_command(photo: Path) -> float:
     started = time.perf_counter()
-    subprocess.run([sys.executable, "-m", "glowtemp.cli", "measure", "--json", str(photo)],
+    subprocess.run([sys.executable, "-m", "glowtemp.shell.cli", "measure", "--json", str(photo)],
                    check=True, stdout=subprocess.DEVNULL)
     return time.perf_counter() - started
 

@@ -4,8 +4,8 @@
   830 nm by 1 nm), exported from colour-science's copy: the measuring path must not import
   colour-science, which takes seconds to import.
 - blackbody_xyz.npy: blackbody XYZ on glowtemp's 1 K grid (700-4000 K), integrated from those
-  CMFs by glowtemp.locus.blackbody_xyz (about 40 ms of work saved at every start).
-- camera_population.npz: the camera prior, glowtemp.population_build.build_population (derived
+  CMFs by glowtemp.physics.locus.blackbody_xyz (about 40 ms of work saved at every start).
+- camera_population.npz: the camera prior, glowtemp.render.population_build.build_population (derived
   from the measured cameras in core/data/camera_sensitivities, Apache-2.0; see core/data/NOTICE.md).
 
 tests/test_locus.py checks the first two against colour-science and a fresh integration;
@@ -30,13 +30,13 @@ def main():
     np.savetxt(out, table, fmt=["%.0f", "%.6e", "%.6e", "%.6e"], delimiter=",", header=header)
     print(f"wrote {out} ({len(table)} rows)")
 
-    from glowtemp.locus import blackbody_xyz, table_grid
+    from glowtemp.physics.locus import blackbody_xyz, table_grid
 
     out = DATA / "blackbody_xyz.npy"
     np.save(out, blackbody_xyz(table_grid()))
     print(f"wrote {out}")
 
-    from glowtemp.population_build import build_population
+    from glowtemp.render.population_build import build_population
 
     out = DATA / "camera_population.npz"
     arrays = build_population()

@@ -17,11 +17,11 @@ from pathlib import Path
 
 import colour
 
-from glowtemp.colourspaces import DISPLAY_P3, SRGB
-from glowtemp.scales import celsius_to_kelvin
-from glowtemp.synthetic import encode_jpeg, render_light_photo, render_photo
-from glowtemp.synthetic_camera import CAMERAS
-from glowtemp.synthetic_scenes import BAR_END
+from glowtemp.physics.colourspaces import DISPLAY_P3, SRGB
+from glowtemp.estimation.scales import celsius_to_kelvin
+from glowtemp.render.synthetic import encode_jpeg, render_light_photo, render_photo
+from glowtemp.render.synthetic_camera import CAMERAS
+from glowtemp.render.synthetic_scenes import BAR_END
 
 OUT = Path(__file__).resolve().parent.parent / "demo_images"
 KILN_CAMERA = "Nikon 5100 (NPL)"
@@ -120,7 +120,7 @@ def _settings_text(shot: DemoShot, rendered) -> str:
 README_HEAD = """# Demo images (rendered, not real photographs)
 
 Every image in this folder is **synthetic demo data** rendered by glowtemp's own forward model
-(`glowtemp.synthetic`: Planck radiance -> camera spectral sensitivities -> noise -> white balance
+(`glowtemp.render.synthetic`: Planck radiance -> camera spectral sensitivities -> noise -> white balance
 -> colour matrix -> tone curve -> JPEG with EXIF and ICC). The places are invented: "Alder Lane
 Pottery" and "Bellwether Smithy" do not exist. The camera names are the spectral sensitivity
 sets the renderer used (two measured by NPL and shipped with colour-science, and invented

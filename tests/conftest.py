@@ -38,9 +38,9 @@ TWO_HALVES_SIZE = (320, 240)
 @pytest.fixture(scope="session")
 def two_halves_jpeg() -> bytes:
     """A small JPEG whose left half glows at 900 °C and right half at 1200 °C."""
-    from glowtemp.scales import celsius_to_kelvin
-    from glowtemp.synthetic import encode_jpeg, render_photo
-    from glowtemp.synthetic_camera import ideal_camera
+    from glowtemp.estimation.scales import celsius_to_kelvin
+    from glowtemp.render.synthetic import encode_jpeg, render_photo
+    from glowtemp.render.synthetic_camera import ideal_camera
 
     left_k, right_k = celsius_to_kelvin(LEFT_HALF_C), celsius_to_kelvin(RIGHT_HALF_C)
     rendered = render_photo(
@@ -53,7 +53,7 @@ def two_halves_jpeg() -> bytes:
 
 
 # A round bar glowing from 1000 °C where it enters the frame to 1350 °C at its free end, which
-# lies at 68 % of the width (glowtemp.synthetic_scenes.BAR_END), rendered through the ideal CIE
+# lies at 68 % of the width (glowtemp.render.synthetic_scenes.BAR_END), rendered through the ideal CIE
 # observer camera with unit white-balance gains, so the photo records CIE XYZ colours (invented
 # test scene).
 BAR_COOL_END_C, BAR_HOT_END_C, BAR_END = 1000.0, 1350.0, 0.68
@@ -63,9 +63,9 @@ HOT_BAR_SIZE = (320, 200)
 @pytest.fixture(scope="session")
 def hot_bar():
     """(rendered photo, its JPEG bytes) of the bar whose right end is hottest."""
-    from glowtemp.scales import celsius_to_kelvin
-    from glowtemp.synthetic import encode_jpeg, render_photo
-    from glowtemp.synthetic_camera import ideal_camera
+    from glowtemp.estimation.scales import celsius_to_kelvin
+    from glowtemp.render.synthetic import encode_jpeg, render_photo
+    from glowtemp.render.synthetic_camera import ideal_camera
 
     def field(x, y):
         return celsius_to_kelvin(BAR_COOL_END_C + (BAR_HOT_END_C - BAR_COOL_END_C) * np.clip(x / BAR_END, 0, 1))
@@ -198,7 +198,7 @@ def start_glowtemp_serve(data_dir: Path, *options: str):
     import subprocess
     import sys
 
-    command = [sys.executable, "-m", "glowtemp.cli", "serve", "--port", "0", "--data", str(data_dir), *options]
+    command = [sys.executable, "-m", "glowtemp.shell.cli", "serve", "--port", "0", "--data", str(data_dir), *options]
     process = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
     seen = []
     for line in process.stdout:
@@ -238,9 +238,9 @@ def post(url: str, body: bytes, content_type: str, timeout: float = 60) -> tuple
 @functools.lru_cache(maxsize=4)
 def rendered_jpegs(count: int, size=(160, 120)) -> tuple[bytes, ...]:
     """``count`` different small JPEGs of spy-hole scenes from 950 °C up in 20 °C steps (invented)."""
-    from glowtemp.scales import celsius_to_kelvin
-    from glowtemp.synthetic import encode_jpeg, render_photo
-    from glowtemp.synthetic_camera import ideal_camera
+    from glowtemp.estimation.scales import celsius_to_kelvin
+    from glowtemp.render.synthetic import encode_jpeg, render_photo
+    from glowtemp.render.synthetic_camera import ideal_camera
 
     return tuple(encode_jpeg(render_photo(celsius_to_kelvin(950.0 + 20 * n), camera=ideal_camera(), size=size, seed=n))
                  for n in range(count))  # fmt: skip

@@ -1,6 +1,6 @@
 """Test helper: lay out ICC profiles byte by byte from the ICC.1:2010 structure (sections 7.2, 7.3).
 
-Written independently of glowtemp.icc's writer, so tests can make profiles it never writes
+Written independently of glowtemp.images.icc's writer, so tests can make profiles it never writes
 (other curve types, LUT-only, truncated) and check glowtemp's reader and LittleCMS on them.
 """
 
@@ -8,7 +8,7 @@ import struct
 
 import numpy as np
 
-from glowtemp.colourspaces import D50_XY, bradford_adaptation
+from glowtemp.physics.colourspaces import D50_XY, bradford_adaptation
 
 
 def s15(values) -> bytes:

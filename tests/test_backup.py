@@ -11,17 +11,17 @@ from datetime import datetime, timezone
 
 import pytest
 
-from glowtemp.backup import BackupError, backup
-from glowtemp.cli import main
-from glowtemp.logbook import Logbook
-from glowtemp.photo_store import photo_key
-from glowtemp.sessions import SessionStore
+from glowtemp.firinglog.backup import BackupError, backup
+from glowtemp.shell.cli import main
+from glowtemp.firinglog.logbook import Logbook
+from glowtemp.firinglog.photo_store import photo_key
+from glowtemp.firinglog.sessions import SessionStore
 
 WRITER = r"""
 import os, sys
 from datetime import datetime, timezone
 from pathlib import Path
-from glowtemp.logbook import Logbook
+from glowtemp.firinglog.logbook import Logbook
 log = Logbook(Path(sys.argv[1]))
 firing_id = log.create_firing(name="Busy")
 print("ready", flush=True)

@@ -15,14 +15,14 @@ from datetime import datetime, timedelta
 import pytest
 from PIL import Image
 
-from glowtemp.batch import BatchError, collect_photos, measure_many
-from glowtemp.cli import main
-from glowtemp.logbook import Logbook
-from glowtemp.photo import load_photo
-from glowtemp.reading import measure
-from glowtemp.series import SeriesError, firing_from_photos
-from glowtemp.synthetic import encode_jpeg, render_photo
-from glowtemp.synthetic_camera import ideal_camera
+from glowtemp.shell.batch import BatchError, collect_photos, measure_many
+from glowtemp.shell.cli import main
+from glowtemp.firinglog.logbook import Logbook
+from glowtemp.images.photo import load_photo
+from glowtemp.estimation.reading import measure
+from glowtemp.shell.series import SeriesError, firing_from_photos
+from glowtemp.render.synthetic import encode_jpeg, render_photo
+from glowtemp.render.synthetic_camera import ideal_camera
 
 START = datetime(2025, 3, 8, 18, 0, 0)  # invented firing start
 
@@ -96,7 +96,7 @@ def test_csv_cells_that_look_like_formulas_are_defused(tmp_path, monkeypatch):
 
 
 def batch_command(folder) -> list:
-    return [sys.executable, "-m", "glowtemp.cli", "measure", str(folder / "kiln-0.jpg"), str(folder / "kiln-1.jpg"),
+    return [sys.executable, "-m", "glowtemp.shell.cli", "measure", str(folder / "kiln-0.jpg"), str(folder / "kiln-1.jpg"),
             "--jsonl", os.devnull, "--jobs", "1"]  # fmt: skip
 
 

@@ -6,10 +6,10 @@ import colour
 import numpy as np
 import pytest
 
-from glowtemp import brightness
-from glowtemp.colourspaces import SRGB
-from glowtemp.estimate import GRID_K, UNCALIBRATED, brightness_observation, estimate_temperature
-from glowtemp.decoded import PhotoMetadata
+from glowtemp.estimation import brightness
+from glowtemp.physics.colourspaces import SRGB
+from glowtemp.estimation.estimate import GRID_K, UNCALIBRATED, brightness_observation, estimate_temperature
+from glowtemp.images.decoded import PhotoMetadata
 
 
 def test_exposure_scale_is_iso_12232_standard_output_sensitivity_worked_by_hand():

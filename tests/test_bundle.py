@@ -10,10 +10,10 @@ from datetime import datetime, timedelta, timezone
 
 import pytest
 
-import glowtemp.logbook_csv
-from glowtemp.bundle import BundleError, import_bundle, write_bundle
-from glowtemp.logbook import Logbook
-from glowtemp.logbook_csv import COLUMNS, firing_csv, neutralise_cell
+import glowtemp.firinglog.logbook_csv
+from glowtemp.firinglog.bundle import BundleError, import_bundle, write_bundle
+from glowtemp.firinglog.logbook import Logbook
+from glowtemp.firinglog.logbook_csv import COLUMNS, firing_csv, neutralise_cell
 
 START = datetime(2024, 3, 9, 8, 0, tzinfo=timezone.utc)
 
@@ -370,11 +370,11 @@ def test_csv_defuses_formulas_but_keeps_negative_numbers(log):
 
 
 def test_csv_module_examples():
-    assert doctest.testmod(glowtemp.logbook_csv).failed == 0
+    assert doctest.testmod(glowtemp.firinglog.logbook_csv).failed == 0
 
 
 def test_a_bundle_of_more_photos_than_the_limit_is_refused_before_reading(tmp_path, log, monkeypatch):
-    from glowtemp import bundle as bundle_module
+    from glowtemp.firinglog import bundle as bundle_module
 
     data = bundle_bytes(log, make_firing(log))
     monkeypatch.setattr(bundle_module, "MOST_PHOTOS", 2)  # the firing has 3 photos

@@ -4,7 +4,7 @@ import colour
 import numpy as np
 import pytest
 
-from glowtemp import colourspaces as cs
+from glowtemp.physics import colourspaces as cs
 
 
 @pytest.mark.parametrize(

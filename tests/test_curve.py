@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 from PIL import Image
 
-from glowtemp.curve import (
+from glowtemp.firinglog.curve import (
     climb_rates_c_per_h,
     curve_points,
     elapsed_hours,
@@ -17,7 +17,7 @@ from glowtemp.curve import (
     recent_climb_rate_c_per_h,
     step_rate_band_c_per_h,
 )
-from glowtemp.curve_chart import firing_chart_png, firing_chart_svg
+from glowtemp.firinglog.curve_chart import firing_chart_png, firing_chart_svg
 
 HOURS = [0.0, 0.5, 1.5, 2.0]
 TEMPERATURES_C = [100.0, 160.0, 310.0, 330.0]
@@ -105,7 +105,7 @@ READINGS = [
     reading(2, "2024-03-01T12:00:00+00:00", 900, reference_c=930),
     reading(4, "2024-03-01T14:30:00+00:00", 1180, cone="6", cone_state="standing"),
 ]
-CONES_C = {"06": 999.0, "6": 1222.0}  # an example cone table as glowtemp.cones.cone_table returns it
+CONES_C = {"06": 999.0, "6": 1222.0}  # an example cone table as glowtemp.estimation.cones.cone_table returns it
 
 
 def test_curve_points_in_time_order_with_cone_heights():

@@ -9,8 +9,8 @@ import xml.etree.ElementTree as ElementTree
 
 import pytest
 
-from glowtemp.curve import CurvePoint
-from glowtemp.curve_chart import RATE_BAND_GID, ClimbStep, climb_steps, firing_chart_png, firing_chart_svg
+from glowtemp.firinglog.curve import CurvePoint
+from glowtemp.firinglog.curve_chart import RATE_BAND_GID, ClimbStep, climb_steps, firing_chart_png, firing_chart_svg
 
 SVG = "{http://www.w3.org/2000/svg}"
 
@@ -94,7 +94,7 @@ def drawn_marker_heights(svg: str, gid: str) -> list[float]:
 
 @pytest.mark.parametrize("unit, expected", [("C", 770.0), ("F", 1418.0)])
 def test_a_magnet_that_let_go_is_drawn_at_iron_s_curie_point_and_labelled(unit, expected):
-    from glowtemp.curve_chart import MAGNET_GID
+    from glowtemp.firinglog.curve_chart import MAGNET_GID
 
     # Iron's Curie point is 770 °C (CRC Handbook of Chemistry and Physics, "Curie temperatures"),
     # 770 * 9/5 + 32 = 1418 °F (NIST SP 811, B.9). Two readings whose magnet let go, at 1 h and 2 h.
@@ -111,7 +111,7 @@ def test_a_magnet_that_let_go_is_drawn_at_iron_s_curie_point_and_labelled(unit, 
 def test_the_horseshoe_marker_is_one_closed_outline_open_at_the_top():
     from matplotlib.path import Path
 
-    from glowtemp.curve_chart import horseshoe_marker
+    from glowtemp.firinglog.curve_chart import horseshoe_marker
 
     marker = horseshoe_marker()
     assert marker.codes[0] == Path.MOVETO and marker.codes[-1] == Path.CLOSEPOLY

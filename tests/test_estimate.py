@@ -4,8 +4,8 @@ import colour
 import numpy as np
 import pytest
 
-from glowtemp import colourspaces
-from glowtemp.estimate import UNCALIBRATED, CameraTerm, estimate_temperature
+from glowtemp.physics import colourspaces
+from glowtemp.estimation.estimate import UNCALIBRATED, CameraTerm, estimate_temperature
 
 IDEAL = UNCALIBRATED  # the ideal colorimetric camera with fixed spreads (no camera population)
 

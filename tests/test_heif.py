@@ -10,12 +10,12 @@ import pillow_heif
 import pytest
 from PIL import Image
 
-from glowtemp.colourspaces import DISPLAY_P3, SRGB
-from glowtemp.icc import build_matrix_profile
-from glowtemp.photo import PhotoError, load_photo, upright
-from glowtemp.reading import measure
-from glowtemp.synthetic import exif_bytes, render_photo
-from glowtemp.synthetic_camera import ideal_camera
+from glowtemp.physics.colourspaces import DISPLAY_P3, SRGB
+from glowtemp.images.icc import build_matrix_profile
+from glowtemp.images.photo import PhotoError, load_photo, upright
+from glowtemp.estimation.reading import measure
+from glowtemp.render.synthetic import exif_bytes, render_photo
+from glowtemp.render.synthetic_camera import ideal_camera
 
 from photo_files import exif_block, rational
 
@@ -106,7 +106,7 @@ def test_exposure_settings_are_read_from_heic_exif():
 def test_measuring_a_jpeg_loads_neither_libheif_nor_libraw():
     # glowtemp measure must start fast: the HEIC and raw decoders load only for those files.
     code = (
-        "import sys, io; from PIL import Image; from glowtemp import cli; from glowtemp.photo import load_photo;"
+        "import sys, io; from PIL import Image; from glowtemp.shell import cli; from glowtemp.images.photo import load_photo;"
         "out = io.BytesIO(); Image.new('RGB', (32, 32), (200, 60, 10)).save(out, 'JPEG');"
         "load_photo(out.getvalue());"
         "print(sorted(m for m in ('pillow_heif', 'rawpy', 'tqdm') if m in sys.modules))"

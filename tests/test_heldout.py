@@ -1,6 +1,6 @@
 """The estimator on cameras held out of its prior, rendered by a pipeline that is not the prior's.
 
-Held out, for every photo here (glowtemp.heldout): the photo's maker (its members are left out
+Held out, for every photo here (glowtemp.render.heldout): the photo's maker (its members are left out
 of the camera prior), the prior's counterpart of the photo's tone curve, and the prior's way of
 fitting colour matrices (these photos use another chart under another illuminant). The truth is
 Planck's law through the maker's measured sensitivities (Academy Software Foundation data).
@@ -9,9 +9,9 @@ Planck's law through the maker's measured sensitivities (Academy Software Founda
 import numpy as np
 import pytest
 
-from glowtemp.heldout import MAKERS, RENDER_CURVES, held_out_camera, held_out_photo, maker_sensors, prior_without
-from glowtemp.population_build import TONE_CURVE_WEIGHTS
-from glowtemp.reading import measure
+from glowtemp.render.heldout import MAKERS, RENDER_CURVES, held_out_camera, held_out_photo, maker_sensors, prior_without
+from glowtemp.render.population_build import TONE_CURVE_WEIGHTS
+from glowtemp.estimation.reading import measure
 
 CURVES = list(RENDER_CURVES)
 
@@ -45,7 +45,7 @@ def test_95_percent_band_covers_a_left_out_maker(maker):
 
 
 def _stacked_sensor():
-    from glowtemp.synthetic_camera import parametric_family
+    from glowtemp.render.synthetic_camera import parametric_family
 
     return parametric_family(1, seed=9, stacked=True)[0]  # not one of the prior's own
 

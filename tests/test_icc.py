@@ -5,8 +5,8 @@ import numpy as np
 import pytest
 from PIL import Image, ImageCms
 
-from glowtemp.colourspaces import ADOBE_RGB, DISPLAY_P3, SRGB, RGBSpace, srgb_encode
-from glowtemp.icc import IccError, build_matrix_profile, parse_icc_profile
+from glowtemp.physics.colourspaces import ADOBE_RGB, DISPLAY_P3, SRGB, RGBSpace, srgb_encode
+from glowtemp.images.icc import IccError, build_matrix_profile, parse_icc_profile
 
 from icc_files import curv_tag, matrix_trc_profile, para_tag, profile_bytes
 

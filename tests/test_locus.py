@@ -4,7 +4,7 @@ import colour
 import numpy as np
 import pytest
 
-from glowtemp import colourspaces, locus
+from glowtemp.physics import colourspaces, locus
 
 
 def test_shipped_cmfs_equal_colour_science_cie_1931():

@@ -8,8 +8,8 @@ from datetime import datetime, timedelta, timezone
 
 import pytest
 
-from glowtemp.logbook import Logbook, LogbookError
-from glowtemp.photo_store import TEMPORARY_PREFIX
+from glowtemp.firinglog.logbook import Logbook, LogbookError
+from glowtemp.firinglog.photo_store import TEMPORARY_PREFIX
 
 START = datetime(2024, 3, 1, 8, 0, tzinfo=timezone.utc)
 

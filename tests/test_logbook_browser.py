@@ -6,7 +6,7 @@ import re
 from datetime import datetime
 from pathlib import Path
 
-from glowtemp.scales import round_to, rounding_step
+from glowtemp.estimation.scales import round_to, rounding_step
 
 DEMO_IMAGES = Path(__file__).resolve().parent.parent / "demo_images"
 

@@ -8,8 +8,8 @@ from datetime import datetime, timezone
 import pytest
 from PIL import Image
 
-from glowtemp.cli import main
-from glowtemp.logbook import Logbook
+from glowtemp.shell.cli import main
+from glowtemp.firinglog.logbook import Logbook
 
 
 @pytest.fixture

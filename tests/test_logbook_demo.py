@@ -6,8 +6,8 @@ from pathlib import Path
 
 import pytest
 
-from glowtemp.logbook import Logbook
-from glowtemp.demo import DEMO_FIRING_NAME, seed_demo
+from glowtemp.firinglog.logbook import Logbook
+from glowtemp.firinglog.demo import DEMO_FIRING_NAME, seed_demo
 
 DEMO_DIR = Path(__file__).resolve().parent.parent / "demo_images"
 

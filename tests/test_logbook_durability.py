@@ -5,14 +5,14 @@ import signal
 import subprocess
 import sys
 
-from glowtemp.logbook import Logbook
-from glowtemp.photo_store import TEMPORARY_PREFIX, photo_key
+from glowtemp.firinglog.logbook import Logbook
+from glowtemp.firinglog.photo_store import TEMPORARY_PREFIX, photo_key
 
 WRITER = r"""
 import sys, os
 from datetime import datetime, timezone
 from pathlib import Path
-from glowtemp.logbook import Logbook
+from glowtemp.firinglog.logbook import Logbook
 log = Logbook(Path(sys.argv[1]))
 firing_id = log.create_firing(name="Under fire")
 print("ready", flush=True)

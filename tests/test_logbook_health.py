@@ -11,7 +11,7 @@ from datetime import datetime, timezone
 
 import pytest
 
-from glowtemp.logbook import ORPHAN_GRACE_S, Logbook, LogbookError
+from glowtemp.firinglog.logbook import ORPHAN_GRACE_S, Logbook, LogbookError
 
 PAGE_BYTES = 4096  # SQLite's default page size (sqlite.org/fileformat2.html, section 1.3.2)
 
@@ -54,7 +54,7 @@ def test_a_damaged_database_is_named_with_what_to_do(tmp_path):
 def test_serve_refuses_a_damaged_log_in_plain_words(tmp_path):
     filled_log(tmp_path)
     damage_a_page(tmp_path / "glowtemp.sqlite3", page_number=5)
-    command = [sys.executable, "-m", "glowtemp.cli", "serve", "--port", "0", "--data", str(tmp_path)]
+    command = [sys.executable, "-m", "glowtemp.shell.cli", "serve", "--port", "0", "--data", str(tmp_path)]
     finished = subprocess.run(command, capture_output=True, text=True, timeout=60)
     assert finished.returncode == 1
     assert "damaged" in finished.stderr and "Traceback" not in finished.stderr + finished.stdout
@@ -62,7 +62,7 @@ def test_serve_refuses_a_damaged_log_in_plain_words(tmp_path):
 
 def test_serve_refuses_a_file_that_is_not_a_database(tmp_path):
     (tmp_path / "glowtemp.sqlite3").write_bytes(b"these are holiday photos, not a database" * 100)
-    command = [sys.executable, "-m", "glowtemp.cli", "serve", "--port", "0", "--data", str(tmp_path)]
+    command = [sys.executable, "-m", "glowtemp.shell.cli", "serve", "--port", "0", "--data", str(tmp_path)]
     finished = subprocess.run(command, capture_output=True, text=True, timeout=60)
     assert finished.returncode == 1
     assert "Cannot open the firing log" in finished.stderr and "Traceback" not in finished.stderr

@@ -5,8 +5,8 @@ import sqlite3
 
 import pytest
 
-from glowtemp.logbook import Logbook, LogbookError
-from glowtemp.logbook_schema import CURRENT_VERSION
+from glowtemp.firinglog.logbook import Logbook, LogbookError
+from glowtemp.firinglog.logbook_schema import CURRENT_VERSION
 
 # The version-1 tables as the first release created them, frozen here on purpose: if the
 # migration code's copy drifts, this test still builds the old layout.

@@ -4,14 +4,14 @@ from datetime import datetime, timedelta, timezone
 
 import pytest
 
-from glowtemp.logbook import Logbook
-from glowtemp.logbook_pairs import calibration_pairs, fit_profile_from_firing
-from glowtemp.photo import load_photo
-from glowtemp.profile import ProfileError
-from glowtemp.profile_store import list_profiles
-from glowtemp.reading import measure
-from glowtemp.synthetic import encode_jpeg, render_photo
-from glowtemp.synthetic_camera import CAMERAS
+from glowtemp.firinglog.logbook import Logbook
+from glowtemp.firinglog.logbook_pairs import calibration_pairs, fit_profile_from_firing
+from glowtemp.images.photo import load_photo
+from glowtemp.estimation.profile import ProfileError
+from glowtemp.estimation.profile_store import list_profiles
+from glowtemp.estimation.reading import measure
+from glowtemp.render.synthetic import encode_jpeg, render_photo
+from glowtemp.render.synthetic_camera import CAMERAS
 
 NIKON = CAMERAS["Nikon 5100 (NPL)"]  # colour-science's NPL-measured camera sensitivities
 START = datetime(2024, 3, 9, 8, tzinfo=timezone.utc)
@@ -74,7 +74,7 @@ def add_rendered_steel(log, firing_id, temperature_c, seed, **trusted):
 
 
 def test_a_magnet_that_let_go_is_a_pair_at_iron_s_curie_point_of_the_firing_s_scene(log):
-    from glowtemp.profile import CURIE_POINT_IRON_C
+    from glowtemp.estimation.profile import CURIE_POINT_IRON_C
 
     firing_id = log.create_firing(name="Hardening a blade", kind="heat treatment")  # hot steel by its kind
     # The smith's test: plain carbon steel stops attracting a magnet at iron's Curie point, 770 °C
@@ -91,7 +91,7 @@ def test_a_magnet_that_let_go_is_a_pair_at_iron_s_curie_point_of_the_firing_s_sc
 
 
 def test_the_magnet_profile_reads_another_photo_of_the_same_steel(log):
-    from glowtemp.profile_store import load_profile
+    from glowtemp.estimation.profile_store import load_profile
 
     firing_id = log.create_firing(name="Forge day", kind="forging")
     add_rendered_steel(log, firing_id, 770, 3, magnet="let go")

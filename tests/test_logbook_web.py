@@ -5,8 +5,8 @@ import zipfile
 
 import pytest
 
-from glowtemp.bundle import import_bundle
-from glowtemp.logbook import Logbook
+from glowtemp.firinglog.bundle import import_bundle
+from glowtemp.firinglog.logbook import Logbook
 
 
 def logbook(app) -> Logbook:
@@ -237,8 +237,8 @@ def test_a_reading_with_only_a_range_shows_the_range(web_client, firing_id):
 
     from PIL import Image
 
-    from glowtemp.synthetic import render_photo
-    from glowtemp.synthetic_camera import CAMERAS
+    from glowtemp.render.synthetic import render_photo
+    from glowtemp.render.synthetic_camera import CAMERAS
 
     rendered = render_photo(1673.15, camera=CAMERAS["Nikon 5100 (NPL)"], size=(160, 120))
     bare = io.BytesIO()

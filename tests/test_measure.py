@@ -6,14 +6,14 @@ import colour
 import numpy as np
 import pytest
 
-from glowtemp import cli
-from glowtemp.colourspaces import DISPLAY_P3
-from glowtemp.photo import load_photo
-from glowtemp.population import camera_population
-from glowtemp.reading import measure
-from glowtemp.region import Circle
-from glowtemp.synthetic import encode_jpeg, render_photo
-from glowtemp.synthetic_camera import CAMERAS
+from glowtemp.shell import cli
+from glowtemp.physics.colourspaces import DISPLAY_P3
+from glowtemp.images.photo import load_photo
+from glowtemp.estimation.population import camera_population
+from glowtemp.estimation.reading import measure
+from glowtemp.images.region import Circle
+from glowtemp.render.synthetic import encode_jpeg, render_photo
+from glowtemp.render.synthetic_camera import CAMERAS
 
 PHONE = CAMERAS["Parametric broad-overlap"]
 
@@ -159,7 +159,7 @@ def run_bounded(arguments, cwd):
     def limit():
         resource.setrlimit(resource.RLIMIT_AS, (2 << 30, 2 << 30))
 
-    return subprocess.run([sys.executable, "-m", "glowtemp.cli", *arguments], cwd=cwd, capture_output=True,
+    return subprocess.run([sys.executable, "-m", "glowtemp.shell.cli", *arguments], cwd=cwd, capture_output=True,
                           text=True, timeout=60, preexec_fn=limit, stdin=subprocess.DEVNULL)  # fmt: skip
 
 
@@ -210,7 +210,7 @@ def test_a_coloured_led_is_found_and_called_no_glow_colour(peak_nm, width_nm):
     # not red) and the reading must name its colour, not darkness or exposure.
     import numpy as np
 
-    from glowtemp.synthetic import render_light_photo
+    from glowtemp.render.synthetic import render_light_photo
 
     wavelengths = np.arange(380.0, 781.0)
     spectrum = np.exp(-0.5 * ((wavelengths - peak_nm) / width_nm) ** 2)

@@ -12,11 +12,12 @@ import threading
 import numpy as np
 import pytest
 
-from glowtemp import estimate, sampling
-from glowtemp.photo import JpegDecoding, PhotoError, begin_loading, load_photo
-from glowtemp.population import TABLE_PATH, camera_population
-from glowtemp.synthetic import encode_jpeg, render_photo
-from glowtemp.synthetic_camera import CAMERAS
+from glowtemp.estimation import estimate
+from glowtemp.images import sampling
+from glowtemp.images.photo import JpegDecoding, PhotoError, begin_loading, load_photo
+from glowtemp.estimation.population import TABLE_PATH, camera_population
+from glowtemp.render.synthetic import encode_jpeg, render_photo
+from glowtemp.render.synthetic_camera import CAMERAS
 
 # Modules a JPEG measure has no use for: HEIC and raw decoders, the progress bar, the worker
 # pool, colour-science (tables are shipped), plotting, the web stack and the firing log.
@@ -24,8 +25,8 @@ NOT_FOR_A_JPEG = ("pillow_heif", "rawpy", "tqdm", "concurrent.futures.process", 
                   "flask", "waitress", "sqlite3")
 CLI_MEASURE = """
 import json, sys
-from glowtemp import cli
-from glowtemp.population import camera_population
+from glowtemp.shell import cli
+from glowtemp.estimation.population import camera_population
 code = cli.main(['measure', sys.argv[1], '--json'])
 loaded = [name for name in sys.argv[2:] if name in sys.modules]
 tables = [camera_population().ratios.loaded, camera_population().log_response.loaded, camera_population().auto_ratios.loaded]
@@ -51,8 +52,8 @@ def test_a_jpeg_measure_loads_only_what_measuring_needs(jpeg_file):
 
 
 def test_the_measure_command_gives_the_in_process_reading(jpeg_file, capsys):
-    from glowtemp import cli
-    from glowtemp.reading import measure
+    from glowtemp.shell import cli
+    from glowtemp.estimation.reading import measure
 
     assert cli.main(["measure", str(jpeg_file), "--json"]) == 0
     printed = json.loads(capsys.readouterr().out)
@@ -125,9 +126,9 @@ def test_a_cut_jpeg_is_left_to_pillow_which_reports_it(jpeg_file, decoding_threa
 
 
 def test_workers_are_forked_only_from_a_single_threaded_process():
-    from glowtemp.batch import start_method
+    from glowtemp.shell.batch import start_method
 
-    alone = subprocess.run([sys.executable, "-c", "from glowtemp.batch import start_method; print(start_method())"],
+    alone = subprocess.run([sys.executable, "-c", "from glowtemp.shell.batch import start_method; print(start_method())"],
                            capture_output=True, text=True, check=True)
     assert alone.stdout.strip() == "fork"
     release = threading.Event()
@@ -141,7 +142,7 @@ def test_workers_are_forked_only_from_a_single_threaded_process():
 
 
 def test_no_progress_bar_means_no_tqdm_thread():
-    from glowtemp.batch import progress_bar
+    from glowtemp.shell.batch import progress_bar
 
     before = set(threading.enumerate())
     assert progress_bar(5, enabled=False) is None
@@ -156,12 +157,12 @@ def test_the_program_leaves_at_once_with_its_output_whole(jpeg_file, tmp_path):
     # `measure` as the program skips the interpreter's teardown: what it printed and wrote
     # must be complete all the same, and its exit status kept.
     lines, table = tmp_path / "out.jsonl", tmp_path / "out.csv"
-    done = subprocess.run([sys.executable, "-m", "glowtemp.cli", "measure", str(jpeg_file), "--jsonl", str(lines),
+    done = subprocess.run([sys.executable, "-m", "glowtemp.shell.cli", "measure", str(jpeg_file), "--jsonl", str(lines),
                            "--csv", str(table), "--json"], capture_output=True, text=True)
     assert done.returncode == 0
     printed = json.loads(done.stdout)
     assert json.loads(lines.read_text()) == printed
     assert table.read_text().count("\n") == 2 and str(jpeg_file) in table.read_text()
-    missing = subprocess.run([sys.executable, "-m", "glowtemp.cli", "measure", str(tmp_path / "none.jpg")],
+    missing = subprocess.run([sys.executable, "-m", "glowtemp.shell.cli", "measure", str(tmp_path / "none.jpg")],
                              capture_output=True, text=True)
     assert missing.returncode == 2 and "no file or folder" in missing.stderr

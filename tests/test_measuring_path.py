@@ -4,11 +4,11 @@ import json
 import subprocess
 import sys
 
-from glowtemp.synthetic import encode_jpeg, render_photo
-from glowtemp.synthetic_camera import measured_sensors
+from glowtemp.render.synthetic import encode_jpeg, render_photo
+from glowtemp.render.synthetic_camera import measured_sensors
 
-SYNTHETIC_SIDE = ("colour", "glowtemp.synthetic", "glowtemp.synthetic_camera", "glowtemp.population_build",
-                  "glowtemp.heldout", "matplotlib")
+SYNTHETIC_SIDE = ("colour", "glowtemp.render.synthetic", "glowtemp.render.synthetic_camera", "glowtemp.render.population_build",
+                  "glowtemp.render.heldout", "matplotlib")
 
 
 def test_measuring_loads_no_colour_science_and_nothing_of_the_renderer(tmp_path):
@@ -17,7 +17,7 @@ def test_measuring_loads_no_colour_science_and_nothing_of_the_renderer(tmp_path)
     photo = tmp_path / "kiln.jpg"
     photo.write_bytes(encode_jpeg(render_photo(1273.15, camera=measured_sensors()["Canon EOS 5D"], size=(160, 120))))
     code = (
-        "import sys, json; from glowtemp import cli;"
+        "import sys, json; from glowtemp.shell import cli;"
         f"cli.main(['measure', {str(photo)!r}, '--json', '--scene', 'kiln']);"
         f"print(json.dumps(sorted(m for m in {SYNTHETIC_SIDE!r} if m in sys.modules)))"
     )
@@ -31,7 +31,7 @@ def test_dull_red_steel_at_800_c_reads_about_800_c_with_a_band_on_the_command_li
     # A bar end of oxidised steel (emissivity 0.8) at 800 °C, hardening heat (common practice),
     # photographed with a daylight preset; its EXIF carries the exposure (ISO 12232 SOS). Truth:
     # Planck's law through Nikon D810's measured sensitivities (Academy Software Foundation data).
-    from glowtemp import cli
+    from glowtemp.shell import cli
 
     rendered = render_photo(1073.15, camera=measured_sensors()["Nikon D810"], scene="bar", emissivity=0.8,
                             size=(320, 240), seed=8)

@@ -8,9 +8,9 @@ import pytest
 import tifffile
 from PIL import Image, ImageCms, ImageOps
 
-from glowtemp.colourspaces import ADOBE_RGB, DISPLAY_P3, SRGB, srgb_encode
-from glowtemp.icc import build_matrix_profile
-from glowtemp.photo import PhotoError, load_photo, upright
+from glowtemp.physics.colourspaces import ADOBE_RGB, DISPLAY_P3, SRGB, srgb_encode
+from glowtemp.images.icc import build_matrix_profile
+from glowtemp.images.photo import PhotoError, load_photo, upright
 
 from photo_files import exif_block, header_only_png, marked, png16, rational, saved
 

@@ -4,11 +4,11 @@ import colour
 import numpy as np
 import pytest
 
-from glowtemp import population_build as build
-from glowtemp.colourspaces import SRGB
-from glowtemp.estimate import GRID_K, population_cameras
-from glowtemp.population import TABLE_PATH, camera_population
-from glowtemp.synthetic_camera import MATRIX_FITS, chart_training_data, colour_matrix, measured_sensors
+from glowtemp.render import population_build as build
+from glowtemp.physics.colourspaces import SRGB
+from glowtemp.estimation.estimate import GRID_K, population_cameras
+from glowtemp.estimation.population import TABLE_PATH, camera_population
+from glowtemp.render.synthetic_camera import MATRIX_FITS, chart_training_data, colour_matrix, measured_sensors
 
 
 @pytest.fixture(scope="module")

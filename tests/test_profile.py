@@ -5,10 +5,10 @@ import json
 import numpy as np
 import pytest
 
-from glowtemp import cli
-from glowtemp.cones import CONE_SIGMA_C, cone_temperature_c
-from glowtemp.photo import load_photo
-from glowtemp.profile import (
+from glowtemp.shell import cli
+from glowtemp.estimation.cones import CONE_SIGMA_C, cone_temperature_c
+from glowtemp.images.photo import load_photo
+from glowtemp.estimation.profile import (
     CameraProfile,
     Pair,
     PROFILE_VERSION,
@@ -18,12 +18,12 @@ from glowtemp.profile import (
     ideal_green_ratio,
     thermocouple_sigma_c,
 )
-from glowtemp.colourspaces import DISPLAY_P3, SRGB
-from glowtemp.profile_store import fit_from_csv, list_profiles, load_profile, save_profile
-from glowtemp.reading import measure
-from glowtemp.scales import celsius_to_kelvin
-from glowtemp.synthetic import encode_jpeg, render_photo
-from glowtemp.synthetic_camera import CAMERAS
+from glowtemp.physics.colourspaces import DISPLAY_P3, SRGB
+from glowtemp.estimation.profile_store import fit_from_csv, list_profiles, load_profile, save_profile
+from glowtemp.estimation.reading import measure
+from glowtemp.estimation.scales import celsius_to_kelvin
+from glowtemp.render.synthetic import encode_jpeg, render_photo
+from glowtemp.render.synthetic_camera import CAMERAS
 
 NIKON = CAMERAS["Nikon 5100 (NPL)"]  # colour-science's NPL-measured camera sensitivities
 
@@ -59,7 +59,7 @@ def test_thermocouple_uncertainty_follows_iec_60584_class_2():
 
 
 def test_profile_recovers_rendered_truth_inside_its_span(three_pair_profile):
-    # Rendered truth (NPL-measured Nikon sensitivities through glowtemp.synthetic): the
+    # Rendered truth (NPL-measured Nikon sensitivities through glowtemp.render.synthetic): the
     # uncalibrated estimate of this camera reads 70-90 °C hot; the profile must bring it within
     # a thermocouple's tolerance and keep the truth inside its 95 % band.
     profile, data, folder = three_pair_profile
@@ -225,7 +225,7 @@ def test_profile_from_dict_refuses_a_damaged_record():
 def test_raw_photos_get_their_own_profile(tmp_path):
     # Rendered raw captures (colour-science's NPL Nikon sensitivities) written as DNG: a raw
     # profile fits and applies to raw photos, and is not applied to the same camera's JPEGs.
-    from glowtemp.synthetic_raw import encode_dng, render_raw
+    from glowtemp.render.synthetic_raw import encode_dng, render_raw
 
     def dng(name, temperature_c, seed):
         rendered = render_raw(temperature_c + 273.15, camera=NIKON, size=(160, 120), seed=seed)
@@ -246,7 +246,7 @@ def test_raw_photos_get_their_own_profile(tmp_path):
 def test_leaving_each_pair_out_matches_refitting_without_it():
     # The rank-one downdate against a plain refit of the others (fit_ratio_map, then each pair's
     # residual by inverting the fitted map): on invented pairs, one with a mistyped reference.
-    from glowtemp.profile_store import _leave_one_out
+    from glowtemp.estimation.profile_store import _leave_one_out
 
     rng = np.random.default_rng(5)
     truth_c = rng.uniform(800, 1300, 8)

@@ -4,7 +4,7 @@ import colour
 import numpy as np
 import pytest
 
-from glowtemp import radiation
+from glowtemp.physics import radiation
 
 
 def test_codata_2018_second_radiation_constant():

@@ -10,10 +10,10 @@ import pytest
 import rawpy
 import tifffile
 
-from glowtemp.estimate import RAW_UNCALIBRATED, UNCALIBRATED, uncalibrated_term
-from glowtemp.photo import PhotoError, load_photo, upright
-from glowtemp.profile import Pair, fit_profile
-from glowtemp.raw import (
+from glowtemp.estimation.estimate import RAW_UNCALIBRATED, UNCALIBRATED, uncalibrated_term
+from glowtemp.images.photo import PhotoError, load_photo, upright
+from glowtemp.estimation.profile import Pair, fit_profile
+from glowtemp.images.raw import (
     RAW_SPACE,
     RawError,
     decode_table,
@@ -24,12 +24,12 @@ from glowtemp.raw import (
     superpixel,
     xyz_to_camera,
 )
-from glowtemp.reading import measure
-from glowtemp.region import Circle, Rectangle
-from glowtemp.colourspaces import SRGB
-from glowtemp.synthetic import encode_jpeg, render_photo
-from glowtemp.synthetic_camera import CAMERAS, ideal_camera
-from glowtemp.synthetic_raw import BLACK_LEVEL, WHITE_LEVEL, encode_dng, render_raw
+from glowtemp.estimation.reading import measure
+from glowtemp.images.region import Circle, Rectangle
+from glowtemp.physics.colourspaces import SRGB
+from glowtemp.render.synthetic import encode_jpeg, render_photo
+from glowtemp.render.synthetic_camera import CAMERAS, ideal_camera
+from glowtemp.render.synthetic_raw import BLACK_LEVEL, WHITE_LEVEL, encode_dng, render_raw
 
 SIZE = (96, 64)
 

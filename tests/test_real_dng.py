@@ -16,9 +16,9 @@ import numpy as np
 import pytest
 import rawpy
 
-from glowtemp.photo import load_photo
-from glowtemp.raw import RAW_SPACE, illuminant_unstated, read_dng_header, xyz_to_camera
-from glowtemp.reading import measure
+from glowtemp.images.photo import load_photo
+from glowtemp.images.raw import RAW_SPACE, illuminant_unstated, read_dng_header, xyz_to_camera
+from glowtemp.estimation.reading import measure
 
 from real_files import CHART_DNG, real_file
 

@@ -15,9 +15,9 @@ import pillow_heif
 import pytest
 from PIL import Image, ImageCms
 
-from glowtemp import cli
-from glowtemp.colourspaces import DISPLAY_P3, SRGB, srgb_encode
-from glowtemp.photo import load_photo
+from glowtemp.shell import cli
+from glowtemp.physics.colourspaces import DISPLAY_P3, SRGB, srgb_encode
+from glowtemp.images.photo import load_photo
 
 from real_files import FLOWERS_HEIC, KITCHEN_HEIC, real_file
 

@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from glowtemp.region import (
+from glowtemp.images.region import (
     Circle,
     Rectangle,
     RegionError,

@@ -17,9 +17,9 @@ from hypothesis import strategies as st
 from hypothesis.extra.numpy import arrays
 from PIL import Image
 
-from glowtemp.photo import load_photo
-from glowtemp.reading import measure
-from glowtemp.region import Circle, Rectangle, RegionError, parse_region
+from glowtemp.images.photo import load_photo
+from glowtemp.estimation.reading import measure
+from glowtemp.images.region import Circle, Rectangle, RegionError, parse_region
 
 SIDES = st.integers(min_value=8, max_value=28)
 COORDINATE = st.one_of(

@@ -2,7 +2,7 @@
 
 import pytest
 
-from glowtemp import advice, scales
+from glowtemp.estimation import advice, scales
 
 
 @pytest.mark.parametrize("celsius, fahrenheit", [(0.0, 32.0), (100.0, 212.0), (-40.0, -40.0), (1222.0, 2231.6)])

@@ -4,8 +4,8 @@ channels and the emissivity range the brightness channel took; a photo kept whil
 cannot be reached carries its scene; the firing page offers the magnet test.
 
 The photo is a rendered bar of oxidised steel with its exposure data in EXIF
-(:func:`glowtemp.synthetic.render_photo`, scene "bar"). What the page should show is what
-:func:`glowtemp.reading.measure` gives for the same bytes and scene.
+(:func:`glowtemp.render.synthetic.render_photo`, scene "bar"). What the page should show is what
+:func:`glowtemp.estimation.reading.measure` gives for the same bytes and scene.
 """
 
 from __future__ import annotations
@@ -18,8 +18,8 @@ import urllib.request
 import pytest
 from conftest import PHONE_VIEWPORT
 
-from glowtemp.photo import load_photo
-from glowtemp.reading import measure
+from glowtemp.images.photo import load_photo
+from glowtemp.estimation.reading import measure
 
 WAIT_MS = 20_000
 STEEL_C = 780.0  # just above iron's Curie point: dull cherry red, where colour alone gives a ceiling
@@ -28,8 +28,8 @@ STEEL_C = 780.0  # just above iron's Curie point: dull cherry red, where colour 
 @pytest.fixture(scope="module")
 def steel_photo(tmp_path_factory):
     """(path, bytes) of a bar of oxidised steel (emissivity 0.85) at 780 °C (invented scene)."""
-    from glowtemp.synthetic import encode_jpeg, render_photo
-    from glowtemp.synthetic_camera import CAMERAS
+    from glowtemp.render.synthetic import encode_jpeg, render_photo
+    from glowtemp.render.synthetic_camera import CAMERAS
 
     camera = CAMERAS["Nikon 5100 (NPL)"]  # colour-science's NPL-measured camera sensitivities
     data = encode_jpeg(render_photo(STEEL_C + 273.15, camera=camera, scene="bar", size=(320, 200), emissivity=0.85,

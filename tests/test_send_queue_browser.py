@@ -15,9 +15,9 @@ from datetime import date, datetime, time
 import pytest
 from PIL import Image
 
-from glowtemp.scales import celsius_to_kelvin
-from glowtemp.synthetic import encode_jpeg, render_photo
-from glowtemp.synthetic_camera import ideal_camera
+from glowtemp.estimation.scales import celsius_to_kelvin
+from glowtemp.render.synthetic import encode_jpeg, render_photo
+from glowtemp.render.synthetic_camera import ideal_camera
 
 TODAY = date.today()
 EARLY, LATE = datetime.combine(TODAY, time(14, 5)), datetime.combine(TODAY, time(14, 35))

@@ -7,9 +7,9 @@ import numpy as np
 import pytest
 from PIL import Image, ImageCms
 
-from glowtemp.colourspaces import DISPLAY_P3, SRGB
-from glowtemp.locus import blackbody_xyz, clipped_linear_rgb
-from glowtemp.synthetic import (
+from glowtemp.physics.colourspaces import DISPLAY_P3, SRGB
+from glowtemp.physics.locus import blackbody_xyz, clipped_linear_rgb
+from glowtemp.render.synthetic import (
     SyntheticInputError,
     encode_jpeg,
     encode_png,
@@ -17,7 +17,7 @@ from glowtemp.synthetic import (
     render_photo,
     tone_curve_encode,
 )
-from glowtemp.synthetic_camera import (
+from glowtemp.render.synthetic_camera import (
     CAMERAS,
     camera_by_name,
     chart_training_data,

@@ -14,9 +14,9 @@ import numpy as np
 import pytest
 import rawpy
 
-from glowtemp.colourspaces import SRGB
-from glowtemp.photo import load_photo
-from glowtemp.synthetic import (
+from glowtemp.physics.colourspaces import SRGB
+from glowtemp.images.photo import load_photo
+from glowtemp.render.synthetic import (
     SyntheticInputError,
     encode_jpeg,
     encode_png,
@@ -26,9 +26,9 @@ from glowtemp.synthetic import (
     tone_curve_encode,
     tone_curve_linear_max,
 )
-from glowtemp.synthetic_camera import CAMERAS, colour_matrix, ideal_camera, preset_gains
-from glowtemp.synthetic_exposure import HANDHELD_LONGEST_S, ISO_LADDER, SHUTTER_LADDER_S
-from glowtemp.synthetic_raw import BLACK_LEVEL, WHITE_LEVEL, encode_dng, render_raw
+from glowtemp.render.synthetic_camera import CAMERAS, colour_matrix, ideal_camera, preset_gains
+from glowtemp.render.synthetic_exposure import HANDHELD_LONGEST_S, ISO_LADDER, SHUTTER_LADDER_S
+from glowtemp.render.synthetic_raw import BLACK_LEVEL, WHITE_LEVEL, encode_dng, render_raw
 
 pytestmark = pytest.mark.filterwarnings("ignore::colour.utilities.ColourRuntimeWarning")
 

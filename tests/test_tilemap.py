@@ -8,17 +8,17 @@ import numpy as np
 import pytest
 from PIL import Image
 
-from glowtemp.photo import load_photo
-from glowtemp.reading import measure
-from glowtemp.region import Circle, Rectangle, RegionError
-from glowtemp.scales import celsius_to_fahrenheit
-from glowtemp.synthetic import encode_jpeg, render_photo
-from glowtemp.synthetic_camera import ideal_camera
-from glowtemp.tilemap import MIN_TILE_PX, temperature_map, tile_grid, with_map
-from glowtemp.tilemap_chart import draw_map
+from glowtemp.images.photo import load_photo
+from glowtemp.estimation.reading import measure
+from glowtemp.images.region import Circle, Rectangle, RegionError
+from glowtemp.estimation.scales import celsius_to_fahrenheit
+from glowtemp.render.synthetic import encode_jpeg, render_photo
+from glowtemp.render.synthetic_camera import ideal_camera
+from glowtemp.estimation.tilemap import MIN_TILE_PX, temperature_map, tile_grid, with_map
+from glowtemp.estimation.tilemap_chart import draw_map
 
 COOL_END_C, HOT_END_C = 1000.0, 1350.0
-BAR_END = 0.68  # where the rendered bar ends, as a share of the width (glowtemp.synthetic_scenes)
+BAR_END = 0.68  # where the rendered bar ends, as a share of the width (glowtemp.render.synthetic_scenes)
 COLORIMETRIC = {"camera": ideal_camera(), "white_balance": (1.0, 1.0, 1.0)}  # records CIE XYZ itself
 
 
@@ -128,7 +128,7 @@ def test_the_overlay_is_a_png_or_an_svg_with_its_legend_unit(bar):
 
 
 def test_the_measure_command_draws_the_map_and_reports_it(tmp_path, capsys):
-    from glowtemp.cli import main
+    from glowtemp.shell.cli import main
 
     rendered = hot_bar()
     photo_path, map_path = tmp_path / "bar.jpg", tmp_path / "map.png"

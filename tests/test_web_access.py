@@ -11,7 +11,7 @@ import sqlite3
 import pytest
 from flask.testing import FlaskClient
 
-from glowtemp.cli import main
+from glowtemp.shell.cli import main
 from glowtemp.web import create_app
 from glowtemp.web.access import OPEN_ENDPOINTS, SESSION_COOKIE, TOKEN_HEADER
 from glowtemp.web.pairing import WRONG_TRIES, PairingCodes

@@ -8,10 +8,10 @@ import io
 import pytest
 from conftest import LEFT_HALF_C, TWO_HALVES_SIZE
 
-from glowtemp.logbook import Logbook
-from glowtemp.photo import load_photo
-from glowtemp.reading import measure
-from glowtemp.region import parse_region
+from glowtemp.firinglog.logbook import Logbook
+from glowtemp.images.photo import load_photo
+from glowtemp.estimation.reading import measure
+from glowtemp.images.region import parse_region
 
 WIDTH, HEIGHT = TWO_HALVES_SIZE
 LEFT_BOX = f"10,20,{WIDTH // 2 - 30},{HEIGHT - 40}"  # well inside the 900 °C half
@@ -104,7 +104,7 @@ def test_preview_is_an_upright_reduced_jpeg(web_client, two_halves_jpeg):
 
 
 def test_scale_stops_are_the_core_blackbody_colours(web_client):
-    from glowtemp.locus import blackbody_swatch_hex
+    from glowtemp.physics.locus import blackbody_swatch_hex
 
     scale = web_client.get("/api/scale").get_json()
     temperatures = [stop["temperature_c"] for stop in scale["stops"]]
@@ -217,12 +217,12 @@ def test_wrong_method_and_unknown_address_answer_json(web_client):
 
 
 def test_unexpected_failure_answers_plain_words_without_details(web_client, two_halves_jpeg, monkeypatch):
-    import glowtemp.reading
+    import glowtemp.estimation.reading
 
     def broken(*args, **kwargs):
         raise RuntimeError("secret internal detail")
 
-    monkeypatch.setattr(glowtemp.reading, "measure", broken)
+    monkeypatch.setattr(glowtemp.estimation.reading, "measure", broken)
     response = post_photo(web_client, two_halves_jpeg)
     assert response.status_code == 500
     text = response.get_data(as_text=True)
@@ -242,7 +242,7 @@ def profiled_app(web_app):
 
     from conftest import DEMO_IMAGES
 
-    from glowtemp.profile_store import fit_from_csv
+    from glowtemp.estimation.profile_store import fit_from_csv
 
     truth = {row["file"]: row["true_c"] for row in csv.DictReader(open(DEMO_IMAGES / "truth.csv"))}
     pairs = web_app.config["DATA_DIR"] / "pairs.csv"
@@ -276,7 +276,7 @@ def test_no_profiles_listed_in_an_empty_data_folder(web_client):
 def test_a_chosen_profile_is_applied_on_upload_and_on_region(profiled_app):
     from conftest import DEMO_IMAGES
 
-    from glowtemp.profile_store import load_profile
+    from glowtemp.estimation.profile_store import load_profile
 
     client = profiled_app.test_client()
     data = (DEMO_IMAGES / "alder_lane_1100_870C.jpg").read_bytes()

@@ -285,7 +285,7 @@ DOLLAR_NAMES = [
 
 @pytest.mark.parametrize("name, text, cone", DOLLAR_NAMES, ids=[name for name, _, _ in DOLLAR_NAMES])
 def test_dollar_signs_in_firing_and_cone_names_are_drawn_literally(tmp_path, two_halves_jpeg, name, text, cone):
-    from glowtemp.cli import main
+    from glowtemp.shell.cli import main
     from glowtemp.web import create_app
 
     data = tmp_path / "data"
@@ -547,8 +547,8 @@ def fail_writes_under(monkeypatch, folder, code="EROFS"):
 
 @pytest.mark.parametrize("holds_a_log", [False, True], ids=["an empty read-only folder", "a read-only folder holding a log"])
 def test_serve_refuses_a_read_only_data_folder_in_its_words(tmp_path, monkeypatch, capsys, holds_a_log):
-    from glowtemp.cli import main
-    from glowtemp.logbook import Logbook
+    from glowtemp.shell.cli import main
+    from glowtemp.firinglog.logbook import Logbook
     from glowtemp.web import server
 
     data = tmp_path / "data"
@@ -633,7 +633,7 @@ def test_small_photos_still_decode_side_by_side():
 
 
 def test_the_photo_cache_keeps_no_photo_beyond_its_byte_limit():
-    from glowtemp.photo import load_photo
+    from glowtemp.images.photo import load_photo
     from glowtemp.web.photo_cache import PhotoCache
 
     small, large = load_photo(png16_photo(64, 48)), load_photo(png16_photo(400, 300))

@@ -203,8 +203,8 @@ def test_a_ceiling_is_shown_as_below_about(live_server, browser_page, artifacts,
     # only a ceiling (colour-science puts the blackbody's linear green below zero there).
     from PIL import Image
 
-    from glowtemp.synthetic import render_photo
-    from glowtemp.synthetic_camera import CAMERAS
+    from glowtemp.render.synthetic import render_photo
+    from glowtemp.render.synthetic_camera import CAMERAS
 
     rendered = render_photo(873.15, camera=CAMERAS["Nikon 5100 (NPL)"], size=(320, 240), tripod=True)
     bare = tmp_path / "no-exif-600.jpg"

@@ -16,11 +16,11 @@ import pillow_heif
 import pytest
 from PIL import Image
 
-from glowtemp.photo import STORED_SUFFIXES, load_photo
-from glowtemp.reading import measure
-from glowtemp.synthetic import render_photo
-from glowtemp.synthetic_camera import ideal_camera
-from glowtemp.synthetic_raw import encode_dng, render_raw
+from glowtemp.images.photo import STORED_SUFFIXES, load_photo
+from glowtemp.estimation.reading import measure
+from glowtemp.render.synthetic import render_photo
+from glowtemp.render.synthetic_camera import ideal_camera
+from glowtemp.render.synthetic_raw import encode_dng, render_raw
 
 from test_web_api import WEB_ONLY_KEYS, post_photo
 

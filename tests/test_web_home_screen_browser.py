@@ -10,7 +10,7 @@ import urllib.request
 import numpy as np
 from PIL import Image
 
-from glowtemp.profile_store import list_profiles
+from glowtemp.estimation.profile_store import list_profiles
 
 # W3C Web Application Manifest, "icon masks": a maskable icon's safe zone is the circle of
 # radius 40 % of the icon's size at its centre; outside it the picture may be cut away.
@@ -94,7 +94,7 @@ def write_demo_profile(data_dir) -> None:
 
     from conftest import DEMO_IMAGES
 
-    from glowtemp.profile_store import fit_from_csv
+    from glowtemp.estimation.profile_store import fit_from_csv
 
     names = ("alder_lane_1000_760C.jpg", "alder_lane_1100_870C.jpg", "alder_lane_1500_1240C.jpg")
     truth = {row["file"]: row["true_c"] for row in csv.DictReader(open(DEMO_IMAGES / "truth.csv"))}

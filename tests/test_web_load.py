@@ -14,10 +14,10 @@ from urllib.parse import urlsplit
 
 from conftest import multipart, post, rendered_jpegs, start_glowtemp_serve
 
-from glowtemp.logbook import Logbook
-from glowtemp.photo import load_photo
-from glowtemp.photo_store import TEMPORARY_PREFIX, photo_key
-from glowtemp.reading import measure
+from glowtemp.firinglog.logbook import Logbook
+from glowtemp.images.photo import load_photo
+from glowtemp.firinglog.photo_store import TEMPORARY_PREFIX, photo_key
+from glowtemp.estimation.reading import measure
 
 UPLOADS = 20
 CLIENT_THREADS = 5
@@ -132,7 +132,7 @@ def test_a_second_server_on_the_same_data_folder_refuses_and_names_the_first(tmp
 
     first, base = start_glowtemp_serve(tmp_path)
     try:
-        second = subprocess.run([sys.executable, "-m", "glowtemp.cli", "serve", "--port", "0", "--data", str(tmp_path)],
+        second = subprocess.run([sys.executable, "-m", "glowtemp.shell.cli", "serve", "--port", "0", "--data", str(tmp_path)],
                                 capture_output=True, text=True, timeout=60, stdin=subprocess.DEVNULL)  # fmt: skip
         assert second.returncode == 1
         assert f"Another glowtemp serve (process {first.pid}, serving {base}/)" in second.stderr

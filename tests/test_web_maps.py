@@ -13,10 +13,10 @@ import xml.etree.ElementTree as ElementTree
 import pytest
 from conftest import BAR_COOL_END_C, tile_truth_c
 
-from glowtemp.photo import load_photo
-from glowtemp.reading import measure
-from glowtemp.region import parse_region
-from glowtemp.tilemap import temperature_map, with_map
+from glowtemp.images.photo import load_photo
+from glowtemp.estimation.reading import measure
+from glowtemp.images.region import parse_region
+from glowtemp.estimation.tilemap import temperature_map, with_map
 
 from test_web_api import WEB_ONLY_KEYS, post_photo, stored_name
 
@@ -134,7 +134,7 @@ def test_a_map_whose_profile_was_fitted_again_is_not_drawn(web_app, web_client):
 
     from conftest import DEMO_IMAGES
 
-    from glowtemp.profile_store import fit_from_csv
+    from glowtemp.estimation.profile_store import fit_from_csv
 
     names = ("alder_lane_0900_650C.jpg", "alder_lane_1000_760C.jpg", "alder_lane_1500_1240C.jpg")
     truth = {row["file"]: row["true_c"] for row in csv.DictReader(open(DEMO_IMAGES / "truth.csv"))}

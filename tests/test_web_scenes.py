@@ -5,7 +5,7 @@ the magnet test.
 The photo is a rendered bar of oxidised steel (emissivity 0.85) at 800 °C through a camera of
 measured sensitivities, with its exposure data in EXIF, so the brightness channel joins colour
 and the scene's emissivity prior changes the answer. The expected values are what
-:func:`glowtemp.reading.measure` gives for the same bytes and scene: the web shell adds nothing.
+:func:`glowtemp.estimation.reading.measure` gives for the same bytes and scene: the web shell adds nothing.
 """
 
 from __future__ import annotations
@@ -14,10 +14,10 @@ import io
 
 import pytest
 
-from glowtemp.photo import load_photo
-from glowtemp.reading import measure
-from glowtemp.region import parse_region
-from glowtemp.tilemap import temperature_map, with_map
+from glowtemp.images.photo import load_photo
+from glowtemp.estimation.reading import measure
+from glowtemp.images.region import parse_region
+from glowtemp.estimation.tilemap import temperature_map, with_map
 
 from test_web_api import WEB_ONLY_KEYS, post_photo, stored_name
 
@@ -28,8 +28,8 @@ FIRING_KEYS = WEB_ONLY_KEYS | {"firing_id", "taken_at", "reference_c", "cone", "
 @pytest.fixture(scope="module")
 def steel_jpeg() -> bytes:
     """A bar of oxidised steel at 800 °C (invented scene), exposure data in EXIF."""
-    from glowtemp.synthetic import encode_jpeg, render_photo
-    from glowtemp.synthetic_camera import CAMERAS
+    from glowtemp.render.synthetic import encode_jpeg, render_photo
+    from glowtemp.render.synthetic_camera import CAMERAS
 
     camera = CAMERAS["Nikon 5100 (NPL)"]  # colour-science's NPL-measured camera sensitivities
     return encode_jpeg(render_photo(STEEL_C + 273.15, camera=camera, scene="bar", size=(240, 160), emissivity=0.85,

@@ -11,8 +11,8 @@ import pytest
 
 from conftest import DEMO_IMAGES
 
-from glowtemp.cli import build_parser
-from glowtemp.logbook import Logbook
+from glowtemp.shell.cli import build_parser
+from glowtemp.firinglog.logbook import Logbook
 from glowtemp.web.server import addresses_to_open
 
 
@@ -31,7 +31,7 @@ def test_every_interface_lists_this_machine_first():
 
 
 def test_serve_prints_the_address_and_answers_there(tmp_path):
-    command = [sys.executable, "-m", "glowtemp.cli", "serve", "--port", "0", "--data", str(tmp_path),
+    command = [sys.executable, "-m", "glowtemp.shell.cli", "serve", "--port", "0", "--data", str(tmp_path),
                "--demo", str(DEMO_IMAGES)]
     process = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
     try:
@@ -82,7 +82,7 @@ def test_serve_pair_prints_a_code_and_a_qr_code_that_pair_a_device(tmp_path):
 
     import zxingcpp
 
-    command = [sys.executable, "-m", "glowtemp.cli", "serve", "--port", "0", "--pair", "--data", str(tmp_path)]
+    command = [sys.executable, "-m", "glowtemp.shell.cli", "serve", "--port", "0", "--pair", "--data", str(tmp_path)]
     process = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True)
     try:
         lines = read_until_qr_ends(process.stdout)
@@ -122,7 +122,7 @@ def test_lan_and_pair_options(monkeypatch, capsys):
     capsys.readouterr()
 
     import glowtemp.web.server
-    from glowtemp.cli import main
+    from glowtemp.shell.cli import main
 
     monkeypatch.setattr(glowtemp.web.server, "lan_address", lambda: None)  # a computer on no network
     assert main(["serve", "--lan"]) == 1

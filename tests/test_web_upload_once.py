@@ -11,11 +11,11 @@ import pytest
 from conftest import multipart, post, rendered_jpegs, start_glowtemp_serve
 from PIL import Image
 
-from glowtemp.logbook import Logbook, UploadConflict
-from glowtemp.photo_store import photo_key
-from glowtemp.scales import celsius_to_kelvin
-from glowtemp.synthetic import encode_jpeg, render_photo
-from glowtemp.synthetic_camera import ideal_camera
+from glowtemp.firinglog.logbook import Logbook, UploadConflict
+from glowtemp.firinglog.photo_store import photo_key
+from glowtemp.estimation.scales import celsius_to_kelvin
+from glowtemp.render.synthetic import encode_jpeg, render_photo
+from glowtemp.render.synthetic_camera import ideal_camera
 
 UPLOAD_ID = "a1b2c3d4e5f60718293a4b5c6d7e8f90"
 ROUNDS = 4  # pairs of concurrent copies, each pair with its own upload id

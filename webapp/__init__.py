@@ -31,13 +31,13 @@ MAX_FORM_PARTS = 100  # parts of one multipart form: a photo and a few text fiel
 def create_app(config: dict | None = None) -> Flask:
     """Build the app. ``config`` may set ``DATA_DIR`` (the glowtemp data folder) and Flask keys.
 
-    Without ``DATA_DIR`` the per-user data folder of :func:`glowtemp.datadir.data_dir` is used.
+    Without ``DATA_DIR`` the per-user data folder of :func:`glowtemp.firinglog.datadir.data_dir` is used.
     ``PAIRING`` True asks every device to pair first (:mod:`glowtemp.web.access`).
     Input limits: ``MAX_CONTENT_LENGTH`` (bytes of a whole request, 413 beyond),
     ``MAX_PHOTO_PIXELS`` (422 beyond), ``MAX_FORM_MEMORY_SIZE`` (bytes of one text field,
     and of a request without a file; 413 beyond) and ``MAX_FORM_PARTS`` (parts of a form; 413).
     """
-    from glowtemp.datadir import data_dir
+    from glowtemp.firinglog.datadir import data_dir
 
     app = Flask(__name__)
     app.config.update(
@@ -50,8 +50,8 @@ def create_app(config: dict | None = None) -> Flask:
     app.config.update(config or {})
     app.config["DATA_DIR"] = data_dir(app.config["DATA_DIR"])
 
-    from glowtemp.logbook import Logbook
-    from glowtemp.sessions import SessionStore
+    from glowtemp.firinglog.logbook import Logbook
+    from glowtemp.firinglog.sessions import SessionStore
 
     from . import access, api, errors, firings, headers, limits, maps, measuring, pages
     from .decode_gate import DecodeGate

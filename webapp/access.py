@@ -9,7 +9,7 @@ Two modes, chosen by the ``PAIRING`` setting:
   paired device; without it the API answers 401 and a page sends the browser to ``/pair``. A
   device pairs by sending the one-time code the server prints (:mod:`glowtemp.web.pairing`)
   and gets a long-lived ``HttpOnly``, ``SameSite=Lax`` cookie holding a random secret whose
-  digest the firing log keeps (:mod:`glowtemp.sessions`). Style sheets and scripts, which hold
+  digest the firing log keeps (:mod:`glowtemp.firinglog.sessions`). Style sheets and scripts, which hold
   nothing private, are served to anyone, so the pairing page can use them.
 
 In both modes a state-changing request (POST, PUT, PATCH, DELETE) that a browser says came

@@ -114,8 +114,8 @@ def preview(reading_id: int):
 @blueprint.get("/scale")
 def scale():
     """Blackbody display colours from the core, every 25 °C, with tick marks in °C and °F."""
-    from glowtemp.locus import blackbody_swatch_hex
-    from glowtemp.scales import celsius_to_kelvin, fahrenheit_to_celsius
+    from glowtemp.physics.locus import blackbody_swatch_hex
+    from glowtemp.estimation.scales import celsius_to_kelvin, fahrenheit_to_celsius
 
     stops = [
         {"temperature_c": t, "hex": blackbody_swatch_hex(celsius_to_kelvin(t))}
@@ -134,8 +134,8 @@ def scale():
 def profiles():
     """Stored camera profiles, each with a label for the picker; ``?unit=f`` gives the span of
     its pairs in °F (the page asks in the unit it shows)."""
-    from glowtemp.profile_store import list_profiles
-    from glowtemp.scales import celsius_to_fahrenheit
+    from glowtemp.estimation.profile_store import list_profiles
+    from glowtemp.estimation.scales import celsius_to_fahrenheit
 
     fahrenheit = request.args.get("unit") == "f"
     listed = []

@@ -1,7 +1,7 @@
 """A budget for photo decodes running at once, so concurrent uploads cannot add up without bound.
 
 Each decode (and the measuring that follows it) reserves the bytes its pixels will take,
-read from the file's header before any pixel is decoded (:func:`glowtemp.photo.decoded_bytes`),
+read from the file's header before any pixel is decoded (:func:`glowtemp.images.photo.decoded_bytes`),
 and waits while the reservations in flight would pass the budget. The budget is sized by the
 pixel limit: one photo of ``MAX_PHOTO_PIXELS`` at 16 bits per channel, so four 49-megapixel
 16-bit PNGs are decoded one after another while 12-megapixel JPEGs still go side by side. A

@@ -8,7 +8,7 @@ from __future__ import annotations
 from flask import jsonify, render_template, request
 from werkzeug.exceptions import HTTPException, InternalServerError
 
-from glowtemp.storage import StorageError
+from glowtemp.firinglog.storage import StorageError
 
 PLAIN_WORDS = {
     400: "The request could not be understood.",

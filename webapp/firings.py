@@ -69,7 +69,7 @@ def _reading_in(firing_id: int, reading_id: int) -> dict:
 
 def _logbook_call(call, *args, **kwargs):
     """Run a firing-log call; its refusals become 400 answers in the same words."""
-    from glowtemp.logbook import LogbookError
+    from glowtemp.firinglog.logbook import LogbookError
 
     try:
         return call(*args, **kwargs)
@@ -100,8 +100,8 @@ def _firing_fields(fields: dict, every_field: bool) -> dict:
 
 
 def _celsius_from_f(value, what: str) -> float:
-    from glowtemp.logbook_fields import shown
-    from glowtemp.scales import fahrenheit_to_celsius
+    from glowtemp.firinglog.logbook_fields import shown
+    from glowtemp.estimation.scales import fahrenheit_to_celsius
 
     try:
         if isinstance(value, bool):
@@ -133,14 +133,14 @@ def _page_reference(fields: dict) -> dict:
 
 
 def _rates(points) -> dict:
-    from glowtemp.curve import rate_summary
+    from glowtemp.firinglog.curve import rate_summary
 
     return rate_summary(points, RATE_WINDOWS_H)
 
 
 def _points(firing: dict, readings: list[dict]):
-    from glowtemp.cones import cone_table
-    from glowtemp.curve import curve_points
+    from glowtemp.estimation.cones import cone_table
+    from glowtemp.firinglog.curve import curve_points
 
     return curve_points(firing, readings, cone_table(_log().data_dir)[0])
 
@@ -171,7 +171,7 @@ def _take_into(firing_id: int, fields: dict):
 
 
 def _profiles() -> list[dict]:
-    from glowtemp.profile_store import list_profiles
+    from glowtemp.estimation.profile_store import list_profiles
 
     return list_profiles(_log().data_dir)
 
@@ -192,7 +192,7 @@ def _back_to_firing(firing_id: int, reading_id: int | None = None):
 
 @blueprint.get("/firings/")
 def index():
-    from glowtemp.logbook_fields import FIRING_KINDS
+    from glowtemp.firinglog.logbook_fields import FIRING_KINDS
 
     return render_template("firings/list.html", firings=_log().list_firings(), kinds=FIRING_KINDS, unit=_unit())
 
@@ -205,12 +205,12 @@ def create_page():
 
 @blueprint.get("/firings/<int:firing_id>")
 def firing_page(firing_id: int):
-    from glowtemp.curve_chart import firing_chart_svg
-    from glowtemp.curve import firing_target_c
-    from glowtemp.cones import cone_table
-    from glowtemp.logbook_fields import CONE_STATES, FIRING_KINDS, MAGNET_LET_GO
-    from glowtemp.logbook_pairs import calibration_pairs
-    from glowtemp.profile import CURIE_POINT_IRON_C
+    from glowtemp.firinglog.curve_chart import firing_chart_svg
+    from glowtemp.firinglog.curve import firing_target_c
+    from glowtemp.estimation.cones import cone_table
+    from glowtemp.firinglog.logbook_fields import CONE_STATES, FIRING_KINDS, MAGNET_LET_GO
+    from glowtemp.firinglog.logbook_pairs import calibration_pairs
+    from glowtemp.estimation.profile import CURIE_POINT_IRON_C
 
     firing = _firing(firing_id)
     readings = _log().readings_in(firing_id)
@@ -278,8 +278,8 @@ def delete_reading_page(firing_id: int, reading_id: int):
 
 @blueprint.post("/firings/<int:firing_id>/profile")
 def make_profile_page(firing_id: int):
-    from glowtemp.logbook_pairs import fit_profile_from_firing
-    from glowtemp.profile import ProfileError
+    from glowtemp.firinglog.logbook_pairs import fit_profile_from_firing
+    from glowtemp.estimation.profile import ProfileError
 
     firing = _firing(firing_id)
     try:
@@ -376,7 +376,7 @@ def api_update_reading(firing_id: int, reading_id: int):
 
 @blueprint.get("/api/firings/<int:firing_id>/export.csv")
 def api_export_csv(firing_id: int):
-    from glowtemp.logbook_csv import firing_csv
+    from glowtemp.firinglog.logbook_csv import firing_csv
 
     firing = _firing(firing_id)
     text = firing_csv(firing, _log().readings_in(firing_id))
@@ -386,7 +386,7 @@ def api_export_csv(firing_id: int):
 
 @blueprint.get("/api/firings/<int:firing_id>/export.zip")
 def api_export_zip(firing_id: int):
-    from glowtemp.bundle import write_bundle
+    from glowtemp.firinglog.bundle import write_bundle
 
     _firing(firing_id)
     out = io.BytesIO()
@@ -407,7 +407,7 @@ def local_time(text: str | None, form: str = "%Y-%m-%d %H:%M") -> str:
 @blueprint.app_template_filter("in_unit")
 def in_unit(temperature_c, unit: str = "c") -> str:
     """A °C value as a plain number in the chosen unit (for form boxes), '' for none."""
-    from glowtemp.scales import celsius_to_fahrenheit
+    from glowtemp.estimation.scales import celsius_to_fahrenheit
 
     if temperature_c is None:
         return ""
@@ -424,8 +424,8 @@ def degrees(temperature_c, unit: str = "c") -> str:
 @blueprint.app_template_filter("climb")
 def climb(rate_c_per_h, unit: str = "c", plus_minus_c_per_h=None) -> str:
     """A climb rate and its 68 % band in the chosen unit per hour, with its sign, both rounded to
-    a step the band supports (:func:`glowtemp.scales.rounding_step`): "+100 ± 40 °C/h"."""
-    from glowtemp.scales import round_to, rounding_step
+    a step the band supports (:func:`glowtemp.estimation.scales.rounding_step`): "+100 ± 40 °C/h"."""
+    from glowtemp.estimation.scales import round_to, rounding_step
 
     if rate_c_per_h is None:
         return "–"

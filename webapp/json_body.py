@@ -1,7 +1,7 @@
 """Reading a request's JSON body: one object of plain values, or a 400 in plain words.
 
 JSON text is UTF-8 (RFC 8259, section 8.1). Before parsing, the body's nesting is measured
-without recursion (:mod:`glowtemp.json_text`), so "[[[[..." cannot exhaust Python's stack; integers are held to
+without recursion (:mod:`glowtemp.firinglog.json_text`), so "[[[[..." cannot exhaust Python's stack; integers are held to
 :data:`LONGEST_INTEGER` digits and the non-standard ``NaN`` and ``Infinity`` are refused
 (RFC 8259, section 6, has no such numbers); every text, key or value, must be Unicode scalar
 values (a lone surrogate such as ``"\\ud800"`` is valid JSON escape syntax but cannot be
@@ -14,7 +14,7 @@ import json
 
 from flask import request
 
-from glowtemp.json_text import has_lone_surrogate, nesting_depth
+from glowtemp.firinglog.json_text import has_lone_surrogate, nesting_depth
 
 from .errors import ApiError
 

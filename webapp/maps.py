@@ -5,10 +5,10 @@
   Measures the stored photo again in that region (the stored reading's region when none is
   sent) as that scene (the stored reading's scene when none is sent) and cuts
   the region into tiles, each measured on its own with its own band
-  (:func:`glowtemp.tilemap.temperature_map`). The reading is stored with its map under
+  (:func:`glowtemp.estimation.tilemap.temperature_map`). The reading is stored with its map under
   ``temperature_map`` and answered with ``id``, ``image``, ``preview_url`` and ``map_url``.
 - ``GET /api/readings/<id>/map.svg?unit=C|F``: the stored map drawn over the photo with a
-  legend in °C or °F (:func:`glowtemp.tilemap_chart.draw_map`), an SVG image whose styles are
+  legend in °C or °F (:func:`glowtemp.estimation.tilemap_chart.draw_map`), an SVG image whose styles are
   presentation attributes (:mod:`.inline_svg`), so it holds nothing the page's
   Content-Security-Policy refuses. The tiles are measured again from the stored map's region
   and the reading's profile and scene and must give the stored numbers; otherwise (the profile was
@@ -34,9 +34,9 @@ UNITS = ("C", "F")
 
 
 def _tile_map(photo, region, profile, scene: str):
-    """The map of ``region``, each tile measured as :func:`glowtemp.reading.measure` would."""
-    from glowtemp.region import RegionError
-    from glowtemp.tilemap import temperature_map
+    """The map of ``region``, each tile measured as :func:`glowtemp.estimation.reading.measure` would."""
+    from glowtemp.images.region import RegionError
+    from glowtemp.estimation.tilemap import temperature_map
 
     try:
         return temperature_map(photo, region, profile=profile, scene=scene)
@@ -45,14 +45,14 @@ def _tile_map(photo, region, profile, scene: str):
 
 
 def _stored_region(result: dict):
-    from glowtemp.region import parse_region
+    from glowtemp.images.region import parse_region
 
     return parse_region(result["region"]["text"])
 
 
 @blueprint.post("/readings/<int:reading_id>/map")
 def make_map(reading_id: int):
-    from glowtemp.tilemap import with_map
+    from glowtemp.estimation.tilemap import with_map
 
     fields = request_fields()
     region, profile = region_from(fields), profile_from(fields)
@@ -76,7 +76,7 @@ def _tile_numbers(record: dict) -> list[dict]:
 
 @blueprint.get("/readings/<int:reading_id>/map.svg")
 def picture(reading_id: int):
-    from glowtemp.tilemap_chart import draw_map
+    from glowtemp.estimation.tilemap_chart import draw_map
 
     from .inline_svg import presentation_attributes
 

@@ -2,7 +2,7 @@
 
 from flask import Blueprint, render_template
 
-from glowtemp.scales import NAMES_ARE_LOOSE
+from glowtemp.estimation.scales import NAMES_ARE_LOOSE
 
 blueprint = Blueprint("measuring", __name__)
 

@@ -16,7 +16,7 @@ BYTES_KEPT = 128 * 1024 * 1024
 
 
 class PhotoCache:
-    """A small least-recently-used map from photo key to decoded :class:`glowtemp.decoded.Photo`."""
+    """A small least-recently-used map from photo key to decoded :class:`glowtemp.images.decoded.Photo`."""
 
     def __init__(self, size: int = PHOTOS_KEPT, bytes_kept: int = BYTES_KEPT):
         self.size = size

@@ -1,6 +1,6 @@
 """The words the pages use for the scene kinds (what is photographed), in the order offered.
 
-The kinds and their emissivity bounds are the core's (:data:`glowtemp.brightness.SCENES`);
+The kinds and their emissivity bounds are the core's (:data:`glowtemp.estimation.brightness.SCENES`);
 ``label`` answers "What are you photographing?", ``short`` follows an emissivity range in
 small print ("emissivity 0.9-1, kiln").
 """

@@ -6,8 +6,8 @@ device must pair first: the server prints the pairing address with a one-time co
 code of it, and prints a fresh code each time one is used (:mod:`glowtemp.web.access`).
 
 Before serving, the data folder must take a real write (a read-only or full folder stops the
-start with a plain message, :func:`glowtemp.storage.check_writable`), and the firing log is
-checked: a damaged database stops the start with a plain message (:meth:`glowtemp.logbook.Logbook.check_database`), readings whose photo is missing are
+start with a plain message, :func:`glowtemp.firinglog.storage.check_writable`), and the firing log is
+checked: a damaged database stops the start with a plain message (:meth:`glowtemp.firinglog.logbook.Logbook.check_database`), readings whose photo is missing are
 reported, and whole photos that no reading names (left by a process killed between storing the
 photo and committing its row) are removed once they are an hour old.
 """
@@ -79,8 +79,8 @@ def pairing_message(base_url: str, code: str, colour: bool = False) -> str:
 def open_app(data_dir: Path, pairing: bool, limits: dict | None = None, out=sys.stdout):
     """The app on ``data_dir`` after the start-up checks; raises LogbookError if the log is damaged
     and StorageError if the data folder cannot be written."""
-    from glowtemp.logbook import DATABASE_NAME, PHOTOS_FOLDER
-    from glowtemp.storage import check_writable
+    from glowtemp.firinglog.logbook import DATABASE_NAME, PHOTOS_FOLDER
+    from glowtemp.firinglog.storage import check_writable
 
     from . import create_app
 
@@ -141,10 +141,10 @@ def serve(host: str, port: int, data_dir: Path, demo_dir: Path | None = None, *,
           limits: dict | None = None, out=sys.stdout) -> None:  # fmt: skip
     """Serve until interrupted. ``pairing`` None means: pair unless ``host`` is loopback.
 
-    Raises :class:`glowtemp.folder_lock.FolderInUse` while another server holds the data folder.
+    Raises :class:`glowtemp.firinglog.folder_lock.FolderInUse` while another server holds the data folder.
     """
-    from glowtemp.folder_lock import FolderLock
-    from glowtemp.storage import check_writable
+    from glowtemp.firinglog.folder_lock import FolderLock
+    from glowtemp.firinglog.storage import check_writable
 
     pairing = needs_pairing(host) if pairing is None else pairing
     check_writable(data_dir)  # the lock file is written there
@@ -159,7 +159,7 @@ def serve(host: str, port: int, data_dir: Path, demo_dir: Path | None = None, *,
 def _serve_locked(host, port, data_dir, demo_dir, pairing: bool, limits, out, lock) -> None:
     app = open_app(data_dir, pairing, limits, out)
     if demo_dir is not None:
-        from glowtemp.demo import seed_demo
+        from glowtemp.firinglog.demo import seed_demo
 
         if seed_demo(app.extensions["glowtemp"]["logbook"], Path(demo_dir)) is not None:
             print(f"Added a demo firing made from the photos in {demo_dir}", file=out, flush=True)

@@ -4,7 +4,7 @@ Every upload goes through :func:`take_upload`: the measuring page's ``POST /api/
 firing's readings (its page form and ``POST /api/firings/<id>/readings``).
 
 - The cheap checks come first (region, camera profile, scene, trusted values), then the photo is
-  decoded. Its type is decided by its content (:func:`glowtemp.photo.load_photo`), its size is
+  decoded. Its type is decided by its content (:func:`glowtemp.images.photo.load_photo`), its size is
   bounded by ``MAX_CONTENT_LENGTH`` (413, before any of it is read into the app) and its pixel
   count by ``MAX_PHOTO_PIXELS`` (422, from the header, before any pixel is decoded). Decodes
   running at once share a budget of memory (:mod:`glowtemp.web.decode_gate`).
@@ -15,13 +15,13 @@ firing's readings (its page form and ``POST /api/firings/<id>/readings``).
 - An ``upload_id`` made by the page for each photo makes sending it again harmless: a retry
   after a lost answer gets the reading already stored (``created`` False), found before the
   photo is measured again and, for two copies sent at once, in the transaction that stores the
-  row (:meth:`glowtemp.logbook.Logbook.add_uploaded_reading`). The same id with another photo
+  row (:meth:`glowtemp.firinglog.logbook.Logbook.add_uploaded_reading`). The same id with another photo
   or firing is refused with 409.
 - The time a reading was taken: a trusted ``taken_at`` sent with it, else the photo's EXIF
   DateTimeOriginal, else ``captured_at`` (when the page got the photo, sent with a photo that
   waited to be sent), else the moment it arrives.
 - The scene (what is photographed: ``kiln``, ``steel`` or ``other``, the brightness channel's
-  emissivity prior, :data:`glowtemp.brightness.SCENES`): a ``scene`` sent with it, else the
+  emissivity prior, :data:`glowtemp.estimation.brightness.SCENES`): a ``scene`` sent with it, else the
   firing's scene, else ``other``.
 """
 
@@ -56,7 +56,7 @@ def _text(fields: dict, name: str) -> str:
 
 def region_from(fields: dict):
     """The region asked for (``region``: X,Y,W,H or circle:CX,CY,R; ``circle``: CX,CY,R), or None."""
-    from glowtemp.region import RegionError, parse_circle, parse_region
+    from glowtemp.images.region import RegionError, parse_circle, parse_region
 
     region, circle = _text(fields, "region"), _text(fields, "circle")
     if max(len(region), len(circle)) > LONGEST_REGION_TEXT:
@@ -79,8 +79,8 @@ def profile_from(fields: dict):
     name = _text(fields, "profile")
     if not name:
         return None
-    from glowtemp.profile import ProfileError
-    from glowtemp.profile_store import load_profile
+    from glowtemp.estimation.profile import ProfileError
+    from glowtemp.estimation.profile_store import load_profile
 
     try:
         return load_profile(current_app.config["DATA_DIR"], name)
@@ -91,7 +91,7 @@ def profile_from(fields: dict):
 def scene_from(fields: dict, default: str) -> str:
     """The ``scene`` asked for, or ``default`` when none is sent; an unknown one answers 400
     naming the allowed scenes."""
-    from glowtemp.logbook_fields import LogbookError, scene
+    from glowtemp.firinglog.logbook_fields import LogbookError, scene
 
     value = _text(fields, "scene")
     if not value:
@@ -105,7 +105,7 @@ def scene_from(fields: dict, default: str) -> str:
 def stored_scene(stored: dict) -> str:
     """The scene a stored reading was measured as: its result's, else its firing's (a reading
     measured before results carried one), else ``other``."""
-    from glowtemp.brightness import DEFAULT_SCENE
+    from glowtemp.estimation.brightness import DEFAULT_SCENE
 
     kept = stored["result"].get("scene")
     if kept:
@@ -117,7 +117,7 @@ def stored_scene(stored: dict) -> str:
 
 def upload_id_from(fields: dict) -> str | None:
     """The client-made ``upload_id`` of the request, or None."""
-    from glowtemp.logbook_fields import LogbookError, upload_id
+    from glowtemp.firinglog.logbook_fields import LogbookError, upload_id
 
     try:
         return upload_id(_text(fields, "upload_id"))
@@ -127,7 +127,7 @@ def upload_id_from(fields: dict) -> str | None:
 
 def captured_at_from(fields: dict) -> str | None:
     """``captured_at``: when the page got the photo (ISO 8601), used when the photo has no EXIF time."""
-    from glowtemp.logbook_fields import LogbookError, time_text
+    from glowtemp.firinglog.logbook_fields import LogbookError, time_text
 
     value = _text(fields, "captured_at")
     try:
@@ -138,7 +138,7 @@ def captured_at_from(fields: dict) -> str | None:
 
 def stored_photo(key: str):
     """The decoded stored photo with ``key``, from the cache of recently decoded photos if there."""
-    from glowtemp.photo import decoded_bytes, load_photo
+    from glowtemp.images.photo import decoded_bytes, load_photo
 
     services = current_app.extensions["glowtemp"]
     photo = services["photos"].get(key)
@@ -152,8 +152,8 @@ def stored_photo(key: str):
 
 def _stored_before(upload_id: str | None, data: bytes, firing_id: int | None) -> Taken | None:
     """The reading already stored for ``upload_id`` with these photo bytes, or None if there is none."""
-    from glowtemp.logbook import UploadConflict, check_same_upload
-    from glowtemp.photo_store import photo_key
+    from glowtemp.firinglog.logbook import UploadConflict, check_same_upload
+    from glowtemp.firinglog.photo_store import photo_key
 
     stored = None if upload_id is None else current_app.extensions["glowtemp"]["logbook"].reading_for_upload(upload_id)
     if stored is None:
@@ -179,7 +179,7 @@ def uploaded_bytes() -> bytes:
 
 def decode(data: bytes):
     """The decoded photo; a file that is not a usable photo is refused with 422."""
-    from glowtemp.photo import PhotoError, load_photo
+    from glowtemp.images.photo import PhotoError, load_photo
 
     try:
         return load_photo(data, max_pixels=current_app.config["MAX_PHOTO_PIXELS"])
@@ -188,9 +188,9 @@ def decode(data: bytes):
 
 
 def measure_reading(photo, region, profile, photo_name: str, scene: str):
-    """The :class:`glowtemp.reading.Reading`; when the glow finder finds nothing, 422 asks for a drawn region."""
-    from glowtemp.reading import measure
-    from glowtemp.region import RegionError
+    """The :class:`glowtemp.estimation.reading.Reading`; when the glow finder finds nothing, 422 asks for a drawn region."""
+    from glowtemp.estimation.reading import measure
+    from glowtemp.images.region import RegionError
 
     try:
         return measure(photo, region, photo_name=photo_name, profile=profile, scene=scene)
@@ -207,8 +207,8 @@ def measure_photo(photo, region, profile, photo_name: str, scene: str) -> dict:
 
 def stored_name(data: bytes, photo) -> str:
     """The name a photo is shown under: made from its content and decoded format only."""
-    from glowtemp.photo import STORED_SUFFIXES
-    from glowtemp.photo_store import photo_key
+    from glowtemp.images.photo import STORED_SUFFIXES
+    from glowtemp.firinglog.photo_store import photo_key
 
     suffix = STORED_SUFFIXES[photo.format]
     return f"photo-{photo_key(data, suffix)[:SHOWN_KEY_DIGITS]}{suffix}"
@@ -222,9 +222,9 @@ def take_upload(fields: dict, firing_id: int | None = None, trusted: dict | None
     cone_state, magnet, note, taken_at). The photo is measured as the ``scene`` sent, else as
     the firing's scene. Raises :class:`ApiError` with nothing stored when any part is refused.
     """
-    from glowtemp.brightness import DEFAULT_SCENE
-    from glowtemp.logbook import LogbookError, UploadConflict
-    from glowtemp.photo import STORED_SUFFIXES, decoded_bytes
+    from glowtemp.estimation.brightness import DEFAULT_SCENE
+    from glowtemp.firinglog.logbook import LogbookError, UploadConflict
+    from glowtemp.images.photo import STORED_SUFFIXES, decoded_bytes
 
     upload_id, captured_at = upload_id_from(fields), captured_at_from(fields)
     data = uploaded_bytes()
