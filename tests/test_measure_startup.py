@@ -14,7 +14,8 @@ import pytest
 
 from glowtemp.estimation import estimate
 from glowtemp.images import sampling
-from glowtemp.images.photo import JpegDecoding, PhotoError, begin_loading, load_photo
+from glowtemp.images.jpeg_decoding import JpegDecoding
+from glowtemp.images.photo import PhotoError, begin_loading, load_photo
 from glowtemp.estimation.population import TABLE_PATH, camera_population
 from glowtemp.render.synthetic import encode_jpeg, render_photo
 from glowtemp.render.synthetic_camera import CAMERAS

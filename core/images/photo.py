@@ -38,7 +38,6 @@ import io
 import math
 import os
 import struct
-import threading
 import warnings
 import zlib
 from functools import lru_cache
@@ -58,6 +57,7 @@ from .decoded import (
     exposure_fields,
     upright,
 )
+from .jpeg_decoding import HeadStart, JpegDecoding, complete_jpeg
 from .icc import IccError, parse_icc_profile
 from .raw import is_dng, load_dng, read_dng_header
 from .regular_file import FileRefused, read_regular_file, size_text
@@ -287,42 +287,6 @@ def _png16_pixels(data: bytes) -> np.ndarray:
     return _three_channels(pixels.astype(np.uint16, copy=False), colour=pixels.shape[2] >= 3)
 
 
-class JpegDecoding(threading.Thread):
-    """Baseline or progressive RGB JPEG decoded by libjpeg-turbo straight into an array, in a
-    worker thread: the decoder runs without Python's global lock, so the caller reads EXIF and
-    the colour profile (and may load what measuring needs) meanwhile.
-
-    The same library as Pillow's, without Pillow's copy out of its own image memory. Used only
-    for a complete file (ending in the EOI marker, ITU-T T.81 B.2.1), since a truncated one is
-    decoded without complaint (:func:`complete_jpeg`); :meth:`pixels` is None when the decoder
-    refuses the file or gives another shape, and the Pillow way is taken.
-    """
-
-    def __init__(self, data: bytes, size: tuple[int, int]):
-        from imagecodecs import _jpeg8  # imported here, in the caller's thread
-
-        super().__init__(name="jpeg-decode", daemon=True)
-        self._decoder, self._data, self._size, self._pixels = _jpeg8, data, size, None
-        self.start()
-
-    def run(self) -> None:
-        try:
-            self._pixels = self._decoder.jpeg8_decode(self._data)
-        except self._decoder.Jpeg8Error:
-            self._pixels = None
-
-    def pixels(self) -> np.ndarray | None:
-        self.join()
-        width, height = self._size
-        pixels, self._pixels = self._pixels, None
-        return pixels if pixels is not None and pixels.shape == (height, width, 3) else None
-
-
-def complete_jpeg(data: bytes) -> bool:
-    """Whether JPEG data end in the EOI marker (ITU-T T.81 B.2.1), trailing zero bytes aside."""
-    return data.rstrip(b"\x00").endswith(b"\xff\xd9")
-
-
 def ends_in_filled_blocks(codes: np.ndarray) -> bool:
     """Whether a decoded JPEG's last block is what the decoder makes of missing data.
 
@@ -503,10 +467,13 @@ def begin_loading(source, *, max_pixels: int = 50_000_000, max_bytes: int = LARG
     JPEG decode: reads the file and checks its header (every refusal that needs no pixels is
     raised here), starts a complete RGB JPEG's decode in a worker thread (:class:`JpegDecoding`)
     and reads its EXIF and colour profile meanwhile.
-    """
-    data = _read_bytes(source, max_bytes)
-    if data[:2] in TIFF_BYTE_ORDERS:
 
+    ``source`` may also be a :class:`glowtemp.images.jpeg_decoding.HeadStart`: its file is
+    checked the same way, and its decode, already running, stands in for a new one.
+    """
+    head_start = source if isinstance(source, HeadStart) else None
+    data = head_start.data if head_start else _read_bytes(source, max_bytes)
+    if data[:2] in TIFF_BYTE_ORDERS:
         if is_dng(data):
             photo = load_dng(data, max_pixels)
             return PhotoLoading(lambda: photo, photo.space, photo.metadata)
@@ -515,7 +482,10 @@ def begin_loading(source, *, max_pixels: int = 50_000_000, max_bytes: int = LARG
         fmt = _check_image(image, max_pixels)
         if fmt != "JPEG":
             return PhotoLoading(lambda: _finish_loading(image, data, fmt, None, None))
-        decoding = JpegDecoding(data, image.size) if image.mode == "RGB" and complete_jpeg(data) else None
+        decoding = None
+        if image.mode == "RGB" and complete_jpeg(data):
+            started = head_start.decoding if head_start else None
+            decoding = started if started and started.size == image.size else JpegDecoding(data, image.size)
         header = _header(image, 255)  # a JPEG's EXIF and profile are in its header
     except BaseException:
         image.close()

@@ -67,13 +67,14 @@ def collect_photos(inputs) -> list[str]:
     return paths
 
 
-def measure_file(path: str, region=None, profile=None, scene: str = "other") -> Measured:
-    """Decode and measure one photo file, as ``glowtemp measure`` does."""
+def measure_file(path: str, region=None, profile=None, scene: str = "other", head_start=None) -> Measured:
+    """Decode and measure one photo file, as ``glowtemp measure`` does; ``head_start`` is the
+    file's decode if one was started already (:class:`glowtemp.images.jpeg_decoding.HeadStart`)."""
     from ..images.photo import PhotoError, begin_loading
     from ..images.region import RegionError
 
     try:
-        loading = begin_loading(path)
+        loading = begin_loading(head_start or path)
         from ..estimation.estimate import read_population_tables  # while a JPEG's pixels decode: the
         from ..estimation.reading import measure  # measuring modules, and the camera prior's tables
 

@@ -21,6 +21,11 @@ SINGLE_BLAS_THREAD = {"OPENBLAS_NUM_THREADS": "1"}
 def _measure(args) -> int:
     for name, value in SINGLE_BLAS_THREAD.items():
         os.environ.setdefault(name, value)
+    head_start = None
+    if len(args.photos) == 1 and not args.map:  # one photo: decode it while the rest loads
+        from ..images.jpeg_decoding import HeadStart
+
+        head_start = HeadStart.begin(args.photos[0])
     from .batch import BatchError, collect_photos
     from ..images.region import parse_circle, parse_rectangle
 
@@ -40,7 +45,7 @@ def _measure(args) -> int:
     if args.map:
         failures = _measure_with_map(args, paths[0], region, profile)
     else:
-        failures = _measure_files(args, paths, region, profile)
+        failures = _measure_files(args, paths, region, profile, head_start)
     if not (args.json or args.csv or args.jsonl):
         from ..estimation.reading import INSTRUMENT_NOTICE
 
@@ -48,17 +53,22 @@ def _measure(args) -> int:
     return 1 if failures else 0
 
 
-def _measure_files(args, paths, region, profile) -> int:
-    """Measure on all cores, writing each result in input order; returns the failure count."""
+def _measure_files(args, paths, region, profile, head_start=None) -> int:
+    """Measure on all cores, writing each result in input order; returns the failure count.
+    ``head_start``: the one photo's decode, started already."""
     from contextlib import ExitStack
 
-    from .batch import csv_writer, csv_row, measure_many
+    from .batch import csv_writer, csv_row, measure_file, measure_many
 
     failures = 0
     with ExitStack() as files:
         table = csv_writer(files.enter_context(open(args.csv, "w", encoding="utf-8", newline=""))) if args.csv else None
         lines = files.enter_context(open(args.jsonl, "w", encoding="utf-8")) if args.jsonl else None
-        for measured in measure_many(paths, region=region, profile=profile, scene=args.scene, jobs=args.jobs):
+        if head_start is not None:
+            results = [measure_file(paths[0], region, profile, args.scene, head_start)]
+        else:
+            results = measure_many(paths, region=region, profile=profile, scene=args.scene, jobs=args.jobs)
+        for measured in results:
             record = measured.result or {"photo": measured.path, "error": measured.error}
             if measured.error:
                 failures += 1
