@@ -42,6 +42,15 @@ def recorded_answers(page, part: str) -> list:
     return answers
 
 
+def drawn_at(page, region) -> None:
+    """Wait until the outline is drawn where an answer's region lies (photo pixels), so that a
+    pointer aimed at it lands on it."""
+    corner = ("cx", region["cx"]) if region["kind"] == "circle" else ("x", region["x"])
+    page.wait_for_function(
+        "([name, value]) => document.querySelector('#overlay .shape').getAttribute(name) === String(value)",
+        arg=list(corner))
+
+
 def touch_drag(page, start, end, steps=8):
     """A one-finger drag through the DevTools protocol's touch events."""
     session = page.context.new_cdp_session(page)
@@ -137,17 +146,20 @@ def test_dragging_the_region_measures_again(live_server, browser_page, artifacts
     page.screenshot(path=artifacts / "web-03-region-moved.png", full_page=True)
 
     # Drag it back with a finger (touch events, as a phone sends them): the hotter half reads
-    # hotter again.
+    # hotter again. The finger goes down on the outline where the answer drew it.
+    drawn_at(page, moved["region"])
     shape = page.locator("#overlay .shape").bounding_box()
     start = (shape["x"] + shape["width"] / 2, shape["y"] + shape["height"] / 2)
     end = (overlay["x"] + overlay["width"] * 0.75, start[1] + 40)  # down a little, as a thumb moves
     with page.expect_response(lambda r: "/region" in r.url):
         touch_drag(page, start, end)
     back = answers[-1]
+    assert page.url.startswith(live_server)  # still on the page: the swipe did not go back
     assert back["temperature_c"] > moved["temperature_c"]
     moved = back
 
     # Resize with the round handle: the region sent grows.
+    drawn_at(page, moved["region"])
     handle = page.locator("#overlay .handle-ring").bounding_box()
     hx, hy = handle["x"] + handle["width"] / 2, handle["y"] + handle["height"] / 2
     with page.expect_response(lambda r: "/region" in r.url):
