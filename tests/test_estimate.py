@@ -71,6 +71,14 @@ def test_led_colours_are_refused_as_not_glow(rgb):
     assert result.refusal == "not-glow-colour"
 
 
+def test_light_without_any_red_is_refused_as_not_glow():
+    # Found by Hypothesis (tests/test_region_properties.py): a region of pure green pixels, too
+    # noisy for the "clearly above red" test, once divided by a red of zero. Every blackbody
+    # below 6000 K is red-heavy (the test above, after colour-science), so no red is no glow.
+    result = estimate_temperature([0.0, 0.32, 0.0], [8.8e-5, 0.27, 8.8e-5])
+    assert result.status == "not-glow" and result.refusal == "not-glow-colour"
+
+
 @pytest.mark.parametrize("temperature_k", [2856.0, 4000.0, 6504.0], ids=["illuminant A", "4000 K", "D65-like"])
 def test_lamp_and_daylight_colours_are_refused_as_whiter_than_glow(temperature_k):
     # CIE 015:2018: illuminant A is a 2856 K Planckian lamp; daylight is near 6500 K. Work here

@@ -460,6 +460,8 @@ def estimate_temperature(
     if not np.all(np.isfinite(mean_linear)) or mean_linear.max() <= 0:
         return refused("no-data")
     errors = np.asarray(standard_error, dtype=float)
+    if mean_linear[0] <= 0:  # green or blue light and no red at all: no ratio to red, and no glow
+        return refused("not-glow", refusal="not-glow-colour")
     if np.any(mean_linear[1:] > mean_linear[0] + 3 * np.hypot(errors[0], errors[1:])):
         # green or blue clearly above red: glow below 6000 K is red-heavy (Planck's law in any of
         # these spaces), even pulled towards white by automatic white balance
